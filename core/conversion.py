@@ -1,0 +1,120 @@
+"""Power converters: charge controllers, microinverters and the inverter-charger.
+
+Each converter turns module-side DC power into output power with an efficiency and a limit.
+Output above a limit is **clipped**: it is counted on the module side (DC energy never converted).
+Conversion losses are counted explicitly (input converted minus output), never as a remainder.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class Converted:
+    """One converter group's result, step means in W."""
+
+    out_w: np.ndarray  # power delivered at the converter's output
+    loss_w: np.ndarray  # conversion loss on the converted part (input converted − output)
+    clipped_w: np.ndarray  # module-side power above the limit, never converted
+
+
+def _limit(p_module_w: np.ndarray, efficiency: float, output_limit_w: np.ndarray | float,
+           input_limit_w: np.ndarray | float = np.inf) -> Converted:
+    p = np.maximum(np.asarray(p_module_w, dtype=float), 0.0)
+    accepted = np.minimum(np.minimum(p, np.asarray(input_limit_w, dtype=float)),
+                          np.asarray(output_limit_w, dtype=float) / efficiency)
+    out = accepted * efficiency
+    return Converted(out_w=out, loss_w=accepted - out, clipped_w=p - accepted)
+
+
+def controller_output(p_module_w: np.ndarray, *, efficiency: float, max_charge_current_a: float,
+                      battery_nominal_v: float, max_input_current_a: float | None = None,
+                      vmp_string_v: np.ndarray | None = None, strings: int = 1) -> Converted:
+    """An MPPT charge controller: output limited to ``max_charge_current_a × battery_nominal_v``.
+
+    When the string's maximum-power voltage is given, the input is also limited to
+    ``max_input_current_a × Vmp`` (a controller draws no more than its rated input current; the
+    operating point moves off the maximum-power point and the rest is clipped) — common practice.
+    """
+    output_limit = max_charge_current_a * battery_nominal_v
+    input_limit: np.ndarray | float = np.inf
+    if max_input_current_a is not None and vmp_string_v is not None:
+        input_limit = max_input_current_a * np.maximum(np.asarray(vmp_string_v, dtype=float), 0.0)
+    return _limit(p_module_w, efficiency, output_limit, input_limit)
+
+
+def microinverter_output(p_module_w: np.ndarray, *, modules: int, efficiency: float, ac_rating_w: float,
+                         max_dc_input_w: float, inputs: int = 1) -> Converted:
+    """``modules`` identical modules on microinverters with ``inputs`` modules each.
+
+    ``p_module_w`` is ONE module's DC power. Each unit accepts at most ``max_dc_input_w`` in total and
+    delivers at most ``ac_rating_w``; a last, partly filled unit has the same limits for fewer modules.
+    """
+    p = np.maximum(np.asarray(p_module_w, dtype=float), 0.0)
+    full, rest = divmod(int(modules), int(inputs))
+    groups = [(full, inputs)] + ([(1, rest)] if rest else [])
+    out = np.zeros_like(p)
+    loss = np.zeros_like(p)
+    clipped = np.zeros_like(p)
+    for units, per_unit in groups:
+        if units == 0:
+            continue
+        unit = _limit(p * per_unit, efficiency, ac_rating_w, max_dc_input_w)
+        out += units * unit.out_w
+        loss += units * unit.loss_w
+        clipped += units * unit.clipped_w
+    return Converted(out_w=out, loss_w=loss, clipped_w=clipped)
+
+
+@dataclass(frozen=True)
+class InverterCurve:
+    """The inverter-charger's inverting direction as a table of AC output against DC input.
+
+    Both directions interpolate the same table, so DC→AC and AC→DC are exact inverses and every
+    loss is counted once.
+    """
+
+    ac_w: np.ndarray
+    dc_w: np.ndarray
+
+    @property
+    def rating_w(self) -> float:
+        return float(self.ac_w[-1])
+
+    def dc_for_ac(self, p_ac_w):
+        return np.interp(p_ac_w, self.ac_w, self.dc_w)
+
+    def ac_for_dc(self, p_dc_w):
+        return np.interp(p_dc_w, self.dc_w, self.ac_w)
+
+
+def inverter_curve(rating_w: float, efficiency: float | tuple[tuple[float, float], ...],
+                   points: int = 201) -> InverterCurve:
+    """Tabulate DC input against AC output from 0 to the rating.
+
+    ``efficiency`` is a constant or a part-load curve ``[(load_fraction, efficiency), …]`` (AC output
+    over rating), interpolated linearly and held flat beyond its ends — the usual datasheet form,
+    e.g. the CEC weighted points; cf. Dobos, PVWatts Version 5 Manual, NREL/TP-6A20-62641 (2014), for
+    the shape of such a curve.
+    """
+    ac = np.linspace(0.0, float(rating_w), points)
+    if isinstance(efficiency, int | float):
+        eta = np.full_like(ac, float(efficiency))
+    else:
+        fracs = np.array([p[0] for p in efficiency], dtype=float)
+        effs = np.array([p[1] for p in efficiency], dtype=float)
+        eta = np.interp(ac / float(rating_w), fracs, effs)
+    dc = np.divide(ac, eta, out=np.zeros_like(ac), where=eta > 0)
+    # The table must rise strictly for the inverse to exist; a very steep part-load curve can break that.
+    dc = np.maximum.accumulate(dc + np.arange(points) * 1e-12)
+    return InverterCurve(ac_w=ac, dc_w=dc)
+
+
+def efficiency_at(curve: InverterCurve, p_ac_w):
+    """Efficiency (AC out / DC in) at the given AC output."""
+    p_ac_w = np.asarray(p_ac_w, dtype=float)
+    dc = curve.dc_for_ac(p_ac_w)
+    return np.divide(p_ac_w, dc, out=np.zeros_like(p_ac_w), where=dc > 0)
