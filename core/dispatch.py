@@ -54,6 +54,7 @@ FLOWS = (
     "inverter_ac_w", "charger_ac_w",
     "pv_to_battery_w", "grid_to_battery_w",  # bus-side charge by origin
     "dc_used_w", "ac_backed_used_w", "ac_grid_used_w",  # converter outputs actually used
+    "inverter_pv_dc_w",  # DC input of the inverter that came straight from DC PV
 )
 _F = {name: i for i, name in enumerate(FLOWS)}
 
@@ -130,6 +131,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
         inv_p_ac = 0.0
         inv_p_dc = 0.0
         g = 0.0  # grid power at the site, import positive
+        inv_pv = 0.0
         curt_ab = 0.0
         curt_ag = 0.0
         unserved = 0.0
@@ -184,6 +186,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                     inv_p_ac = want
                     standing = sd
                 dc_avail -= use_dc
+                inv_pv += use_dc
                 bat_out += use_b
                 dis_room -= use_b
                 g += n - inv_p_ac
@@ -218,6 +221,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                     inv_p_dc += x_dc
                     inv_p_ac += x_ac
                     dc_avail -= x_dc
+                    inv_pv += x_dc
                     g -= x_ac
             # export policy at the site's connection point
             export = max(0.0, -g)
@@ -260,6 +264,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                     inv_p_dc = use_dc + use_b
                     inv_p_ac = np.interp(inv_p_dc, inv_dc, inv_ac)
                     dc_avail -= use_dc
+                    inv_pv += use_dc
                     bat_out += use_b
                     dis_room -= use_b
                     unserved = n - inv_p_ac
@@ -312,6 +317,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
         out[_F_DC_USED, t] = dc - curt_dc
         out[_F_ACB_USED, t] = acb
         out[_F_ACG_USED, t] = acg
+        out[_F_INV_PV, t] = inv_pv
     return out
 
 
@@ -319,7 +325,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
 (_F_SOC, _F_SERVED, _F_UNSERVED, _F_GRID_IMPORT, _F_GRID_STANDING, _F_EXPORT_ALLOWED, _F_EXPORT_UNCONTROLLED,
  _F_CURT_DC, _F_CURT_ACB, _F_CURT_ACG, _F_LOSS_DC, _F_LOSS_ACB, _F_LOSS_ACG, _F_LOSS_INV, _F_IDLE, _F_LOSS_CHG,
  _F_BAT_IN, _F_BAT_OUT, _F_LOSS_BAT, _F_INV_AC, _F_CHG_AC, _F_PV_BAT, _F_GRID_BAT, _F_DC_USED, _F_ACB_USED,
- _F_ACG_USED) = range(len(FLOWS))
+ _F_ACG_USED, _F_INV_PV) = range(len(FLOWS))
 
 try:  # compiled when numba is available; the plain function stays reachable as _kernel
     import numba

@@ -216,9 +216,9 @@ class Scenario:
     name: str
     site: Site
     weather: Weather
-    load: Load
     modules: dict[str, Module]
     inverter_charger: InverterCharger
+    load: Load = field(default_factory=Load)
     battery: Battery | None = None
     controllers: dict[str, Controller] = field(default_factory=dict)
     microinverters: dict[str, Microinverter] = field(default_factory=dict)
@@ -412,8 +412,6 @@ def _cross_check(sc: Scenario, r: _Reader) -> None:
             ref(e.microinverter, sc.microinverters, "expansion.microinverter", "microinverter")
         if e.controller is not None:
             ref(e.controller, sc.controllers, "expansion.controller", "controller")
-    if sc.load.path is None and sc.load.monthly_kwh is None:
-        r.fail("load", "needs a measured load file (path) or monthly_kwh", "give path = 'load.csv'")
 
 
 # ---------------------------------------------------------------------------------------- load / save

@@ -1,0 +1,258 @@
+"""The orchestrator: unpacks a scenario and composes the physics leaves in order (our ModelChain).
+
+weather + site → solar geometry (once per site) → one module's output per orientation (cached) →
+arrays × modules → converters → dispatch → metrics.
+
+Work that does not depend on panel counts is kept apart so that a what-if that changes only a count
+reuses it: :func:`prepare_site` (weather, sun, loads, outages) is computed once per site, and
+:class:`OrientationCache` keeps one module's output per (module, tilt, azimuth, mount, losses).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from core import conversion, dispatch, metrics, outages, pv, solar
+from core import weather as weather_io
+from core.errors import InputError
+from core.loads import load_year
+from core.scenario import Array, Scenario
+from core.timebase import nominal_index, standard_offset
+from core.weather_monthly import monthly_weather
+
+
+@dataclass(frozen=True)
+class SiteData:
+    """Everything about a site that no panel count or orientation changes."""
+
+    index: pd.DatetimeIndex
+    step_s: int
+    timezone: str
+    weather: weather_io.Weather
+    geometry: solar.SolarGeometry
+    load_backed_w: np.ndarray
+    load_grid_w: np.ndarray
+    grid_up: np.ndarray
+    load_notes: dict = field(default_factory=dict)
+
+    @property
+    def dt_h(self) -> float:
+        return self.step_s / 3600.0
+
+    @property
+    def daylight(self) -> np.ndarray:
+        return self.geometry.apparent_zenith_deg < 90.0
+
+
+def site_timezone(sc: Scenario) -> str:
+    return sc.site.timezone or weather_io.timezone_for(sc.site.latitude, sc.site.longitude)
+
+
+def _weather(sc: Scenario, tz) -> weather_io.Weather:
+    w = sc.weather
+    if w.source == "monthly":
+        return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
+                               longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
+    path = sc.resolve(w.path, "weather.path")
+    return weather_io.read_weather_file(path, fmt=w.format, tz=tz)
+
+
+def _load(sc: Scenario, path_key: str, column_key: str, monthly_key: str, step_s: int, tz,
+          timezone: str) -> tuple[np.ndarray, dict]:
+    """One load channel on the simulation's time base (zeros when the scenario has none)."""
+    n = len(nominal_index(step_s, tz))
+    path = getattr(sc.load, path_key)
+    monthly = getattr(sc.load, monthly_key)
+    if path is None:
+        if monthly is None:
+            return np.zeros(n), {}
+        index = nominal_index(step_s, tz)
+        hours = index.to_series().groupby(index.month).size() * step_s / 3600.0
+        flat = [0.0 if m is None else m * 1000.0 / hours[i + 1] for i, m in enumerate(monthly)]
+        return np.asarray(flat)[index.month - 1], {"method": "flat power from monthly totals"}
+    series, quality, report = load_year(sc.resolve(path, f"load.{path_key}"), step_s=step_s, tz=tz,
+                                        timezone_name=sc.load.timezone or timezone,
+                                        column=getattr(sc.load, column_key), unit=sc.load.unit,
+                                        monthly_kwh=monthly)
+    return series.to_numpy(dtype=float), {"quality": quality, "year": report}
+
+
+def prepare_site(sc: Scenario) -> SiteData:
+    """Weather, sun, loads and outages on one time base: the expensive, orientation-free part."""
+    timezone = site_timezone(sc)
+    tz = standard_offset(timezone)
+    weather = _weather(sc, tz)
+    step_s = sc.simulation.step_s or weather.step_s
+    if step_s < weather.step_s:
+        weather = weather_io.interpolate_weather(weather, step_s, latitude=sc.site.latitude,
+                                                 longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
+    elif step_s != weather.step_s:
+        raise InputError(f"a step of {step_s} s is coarser than the weather's {weather.step_s} s",
+                         where="simulation.step_s", hint="leave it out to use the weather's own step")
+    index = weather.data.index
+    geometry = solar.solar_geometry(index, sc.site.latitude, sc.site.longitude, sc.site.altitude_m,
+                                    pressure_pa=weather.data["pressure"].to_numpy(),
+                                    temp_air_c=weather.data["temp_air"].to_numpy())
+    load_b, notes_b = _load(sc, "path", "column", "monthly_kwh", step_s, tz, timezone)
+    load_g, notes_g = _load(sc, "grid_only_path", "grid_only_column", "grid_only_monthly_kwh", step_s, tz, timezone)
+    intervals = []
+    if sc.grid.outages_path:
+        intervals += outages.read_outages_csv(sc.resolve(sc.grid.outages_path, "grid.outages_path"), tz)
+    if sc.grid.random_outages is not None:
+        r = sc.grid.random_outages
+        intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed)
+    return SiteData(index=index, step_s=step_s, timezone=timezone, weather=weather, geometry=geometry,
+                    load_backed_w=load_b, load_grid_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
+                    load_notes={"backed_up": notes_b, "grid_only": notes_g})
+
+
+class OrientationCache:
+    """One module's output per orientation, computed once and reused for any panel count."""
+
+    def __init__(self) -> None:
+        self._store: dict[tuple, pv.ModuleOutput] = {}
+
+    def __len__(self) -> int:
+        return len(self._store)
+
+    def module_output(self, site: SiteData, sc: Scenario, array: Array) -> pv.ModuleOutput:
+        m = sc.modules[array.module]
+        key = (dataclasses.astuple(m), array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct,
+               array.row_pitch_m)
+        if key not in self._store:
+            self._store[key] = pv.module_output(
+                site.weather.data, site.geometry, tilt_deg=array.tilt_deg, azimuth_deg=array.azimuth_deg,
+                mount=array.mount, losses_pct=array.losses_pct, pmax_w=m.pmax_w, vmp_v=m.vmp_v, imp_a=m.imp_a,
+                voc_v=m.voc_v, isc_a=m.isc_a, gamma_pmax_pct_per_c=m.gamma_pmax_pct_per_c,
+                beta_voc_pct_per_c=m.beta_voc_pct_per_c, alpha_isc_pct_per_c=m.alpha_isc_pct_per_c)
+        return self._store[key]
+
+
+@dataclass(frozen=True)
+class SourcePower:
+    """Converter outputs of all arrays, grouped the way the engine sees them (W per step)."""
+
+    potential_dc_w: np.ndarray
+    potential_ac_w: np.ndarray
+    clipped_dc_w: np.ndarray
+    clipped_ac_w: np.ndarray
+    dc: conversion.Converted
+    ac_backed: conversion.Converted
+    ac_grid: conversion.Converted
+    per_array_dc_w: dict[str, np.ndarray]
+
+
+def _sum(parts: list[conversion.Converted], n: int) -> conversion.Converted:
+    zero = np.zeros(n)
+    return conversion.Converted(out_w=sum((p.out_w for p in parts), zero), loss_w=sum((p.loss_w for p in parts), zero),
+                                clipped_w=sum((p.clipped_w for p in parts), zero))
+
+
+def source_power(sc: Scenario, site: SiteData, cache: OrientationCache) -> SourcePower:
+    """Module DC per array, then through its converter: controllers (shared by their arrays) and microinverters."""
+    n = len(site.index)
+    per_array: dict[str, np.ndarray] = {}
+    by_controller: dict[str, list[tuple[Array, pv.ModuleOutput]]] = {}
+    ac_parts: dict[str, list[conversion.Converted]] = {"backed_up": [], "grid": []}
+    potential_dc = np.zeros(n)
+    potential_ac = np.zeros(n)
+    for array in sc.arrays:
+        mo = cache.module_output(site, sc, array)
+        per_array[array.name] = mo.p_dc_w * array.module_count
+        if array.coupling == "dc":
+            by_controller.setdefault(array.controller, []).append((array, mo))
+            potential_dc += per_array[array.name]
+        else:
+            mi = sc.microinverters[array.microinverter]
+            ac_parts[array.side].append(conversion.microinverter_output(
+                mo.p_dc_w, modules=array.module_count, efficiency=mi.efficiency, ac_rating_w=mi.ac_rating_w,
+                max_dc_input_w=mi.max_dc_input_w, inputs=mi.inputs))
+            potential_ac += per_array[array.name]
+    dc_parts = []
+    for name, members in by_controller.items():
+        c = sc.controllers[name]
+        first, mo = members[0]
+        dc_parts.append(conversion.controller_output(
+            sum(per_array[a.name] for a, _ in members), efficiency=c.efficiency,
+            max_charge_current_a=c.max_charge_current_a, battery_nominal_v=sc.battery.nominal_v,
+            max_input_current_a=c.max_input_current_a, vmp_string_v=mo.vmp_v * first.modules_per_string))
+    dc = _sum(dc_parts, n)
+    acb, acg = _sum(ac_parts["backed_up"], n), _sum(ac_parts["grid"], n)
+    return SourcePower(potential_dc_w=potential_dc, potential_ac_w=potential_ac, clipped_dc_w=dc.clipped_w,
+                       clipped_ac_w=acb.clipped_w + acg.clipped_w, dc=dc, ac_backed=acb, ac_grid=acg,
+                       per_array_dc_w=per_array)
+
+
+def dispatch_params(sc: Scenario, dt_h: float) -> dispatch.DispatchParams:
+    b, ic, g = sc.battery, sc.inverter_charger, sc.grid
+    usable = b.usable_kwh * 1000.0 if b else 0.0
+    curve = conversion.inverter_curve(ic.rating_w, ic.efficiency)
+    return dispatch.DispatchParams(
+        dt_h=dt_h, usable_wh=usable, initial_wh=usable * (b.initial_pct if b else 0.0) / 100.0,
+        reserve_wh=usable * (b.reserve_pct if b else 0.0) / 100.0, floor_wh=usable * (b.floor_pct if b else 0.0) / 100.0,
+        charge_max_w=b.max_charge_a * b.nominal_v if b else 0.0,
+        discharge_max_w=b.max_discharge_a * b.nominal_v if b else 0.0,
+        roundtrip_efficiency=b.roundtrip_efficiency if b else 1.0,
+        inverter_ac_w=curve.ac_w, inverter_dc_w=curve.dc_w,
+        charger_rating_w=ic.rating_w if ic.charger_rating_w is None else ic.charger_rating_w,
+        charger_efficiency=ic.charger_efficiency, idle_w=ic.idle_w, standing_draw_w=g.standing_draw_w,
+        metering_site=g.metering == "site", export_allowed=g.export_allowed, export_limit_w=g.export_limit_w,
+        limiter=g.ac_export_control == "limiter", recharge_reserve_from_grid=g.recharge_reserve_from_grid)
+
+
+@dataclass(frozen=True)
+class Simulation:
+    """One simulated year: the per-step table, the figures, and what the checks need."""
+
+    scenario: Scenario
+    site: SiteData
+    steps: pd.DataFrame
+    results: metrics.Results
+    sources: SourcePower
+
+
+def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = True) -> Simulation:
+    """Dispatch and figures for given source powers (the part a count-only change repeats)."""
+    params = dispatch_params(sc, site.dt_h)
+    inputs = dispatch.DispatchInputs(
+        load_backed_w=site.load_backed_w, load_grid_w=site.load_grid_w, dc_out_w=sources.dc.out_w,
+        dc_loss_w=sources.dc.loss_w, ac_backed_out_w=sources.ac_backed.out_w, ac_backed_loss_w=sources.ac_backed.loss_w,
+        ac_grid_out_w=sources.ac_grid.out_w, ac_grid_loss_w=sources.ac_grid.loss_w, grid_up=site.grid_up)
+    flows = dispatch.dispatch(inputs, params, compiled=compiled)
+    steps = pd.DataFrame(flows.flows.T, index=site.index, columns=list(dispatch.FLOWS))
+    steps = steps.assign(
+        load_backed_w=site.load_backed_w, load_grid_w=site.load_grid_w, grid_up=site.grid_up,
+        pv_potential_dc_w=sources.potential_dc_w, pv_potential_ac_w=sources.potential_ac_w,
+        clipped_dc_w=sources.clipped_dc_w, clipped_ac_w=sources.clipped_ac_w,
+        dc_out_w=sources.dc.out_w, ac_backed_out_w=sources.ac_backed.out_w, ac_grid_out_w=sources.ac_grid.out_w,
+        ghi_w_m2=site.weather.data["ghi"].to_numpy())
+    ghi_kwh = steps["ghi_w_m2"] * site.dt_h / 1000.0
+    weather_figures = {"ghi_kwh_m2": float(ghi_kwh.sum()), "source": site.weather.source,
+                       "step_s": site.step_s,
+                       "months": [float(v) for v in ghi_kwh.groupby(ghi_kwh.index.month).sum()]}
+    results = metrics.summarise(steps, dt_h=site.dt_h, initial_wh=params.initial_wh, usable_wh=params.usable_wh,
+                                daylight=site.daylight, weather=weather_figures)
+    return Simulation(scenario=sc, site=site, steps=steps, results=results, sources=sources)
+
+
+def simulate(sc: Scenario, site: SiteData | None = None, cache: OrientationCache | None = None, *,
+             progress: Callable[[float, str], None] | None = None, compiled: bool = True) -> Simulation:
+    """Simulate the scenario's year. Pass ``site`` and ``cache`` to reuse earlier work."""
+    if progress:
+        progress(0.0, "weather and loads")
+    site = site or prepare_site(sc)
+    cache = cache if cache is not None else OrientationCache()
+    if progress:
+        progress(0.4, "PV arrays")
+    sources = source_power(sc, site, cache)
+    if progress:
+        progress(0.7, "energy flows")
+    out = run(sc, site, sources, compiled=compiled)
+    if progress:
+        progress(1.0, "done")
+    return out
