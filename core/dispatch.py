@@ -199,7 +199,7 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                 chg_cap -= a
                 bat_in += a * chg_eff
                 ch_room -= a * chg_eff
-                from_pv = min(a, acb + acg if site else acb)
+                from_pv = min(a, max(0.0, -n))  # the AC-coupled surplus over the loads; the rest is grid
                 pv_to_bat += from_pv * chg_eff
                 grid_to_bat += (a - from_pv) * chg_eff
                 g += n + a

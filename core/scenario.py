@@ -430,8 +430,22 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
         if key in table and not isinstance(table[key], list):
             r.fail(key, "expected [[arrays]] entries")
     sc = r.build(Scenario, table, "")
-    sc = dataclasses.replace(sc, base_dir=Path(base_dir or "."), confine_to=confine_to)
+    sc = dataclasses.replace(sc, base_dir=Path(base_dir or ".").resolve(), confine_to=confine_to)
     _cross_check(sc, r)
+    return _absolute_paths(sc)
+
+
+def _absolute_paths(sc: Scenario) -> Scenario:
+    """Store every file path resolved (and confinement-checked), so equal scenarios compare equal
+    wherever their files were saved."""
+    sections = {}
+    for section, key in _PATH_KEYS:
+        value = getattr(getattr(sc, section), key)
+        if value is not None:
+            resolved = str(sc.resolve(value, f"{section}.{key}"))
+            sections.setdefault(section, {})[key] = resolved
+    for section, changes in sections.items():
+        sc = dataclasses.replace(sc, **{section: dataclasses.replace(getattr(sc, section), **changes)})
     return sc
 
 
