@@ -1,0 +1,112 @@
+"""Sun position and the orientation-independent sky geometry of a site, computed once per site.
+
+Solar position by the NREL Solar Position Algorithm (Reda & Andreas, "Solar position algorithm for solar radiation
+applications", Solar Energy 76 (2004) 577-589, NREL/TP-560-34302) as implemented in
+:func:`pvlib.solarposition.get_solarposition` (``method="nrel_numpy"``). Values stand for a whole interval, so they
+are evaluated at the interval *midpoint* (interval start + step/2) while the arrays stay labelled by the interval
+starts of the weather index.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+import pvlib
+
+from core.errors import InputError
+
+#: SPA's default difference between terrestrial and universal time (s); the Reda & Andreas example uses 67 s.
+DEFAULT_DELTA_T_S = 67.0
+#: Air temperature used for refraction when none is given (pvlib's default), C.
+DEFAULT_TEMP_AIR_C = 12.0
+
+
+@dataclass(frozen=True)
+class SolarGeometry:
+    """Sun geometry per interval of a weather index (all arrays aligned with ``index``, evaluated at midpoints).
+
+    Angles in degrees; azimuth clockwise from north (180 = south); ``dni_extra_w_m2`` is the extraterrestrial
+    normal irradiance (Spencer 1971); air masses after Kasten & Young (1989) on the apparent zenith, absolute
+    air mass scaled by station pressure. Air masses are NaN when the sun is below the horizon.
+    """
+
+    index: pd.DatetimeIndex
+    apparent_zenith_deg: np.ndarray
+    zenith_deg: np.ndarray
+    azimuth_deg: np.ndarray
+    dni_extra_w_m2: np.ndarray
+    airmass_relative: np.ndarray
+    airmass_absolute: np.ndarray
+
+
+def sun_position(times, latitude: float, longitude: float, altitude_m: float, pressure_pa, temp_air_c,
+                 delta_t_s: float = DEFAULT_DELTA_T_S) -> pd.DataFrame:
+    """Topocentric sun position at ``times`` by SPA (pvlib ``nrel_numpy``).
+
+    ``pressure_pa`` (Pa) and ``temp_air_c`` (C) set the refraction correction; scalars or arrays aligned with
+    ``times``. Returns pvlib's frame: ``apparent_zenith``, ``zenith``, ``apparent_elevation``, ``elevation``,
+    ``azimuth``, ``equation_of_time`` (degrees, minutes).
+    """
+    times = pd.DatetimeIndex(times)
+    if times.tz is None:
+        raise ValueError("sun_position needs time-zone-aware times")
+    return pvlib.solarposition.get_solarposition(
+        times, latitude, longitude, altitude=altitude_m, pressure=_as_values(pressure_pa),
+        method="nrel_numpy", temperature=_as_values(temp_air_c), delta_t=delta_t_s)
+
+
+def solar_geometry(index, latitude: float, longitude: float, altitude_m: float, *, pressure_pa=None,
+                   temp_air_c=None, step_s: int | None = None,
+                   delta_t_s: float = DEFAULT_DELTA_T_S) -> SolarGeometry:
+    """Sun geometry for every interval of ``index`` (interval starts), evaluated at the interval midpoints.
+
+    ``pressure_pa`` defaults to :func:`pvlib.atmosphere.alt2pres` of the altitude, ``temp_air_c`` to 12 C; both may
+    be arrays aligned with ``index`` (e.g. the weather columns). ``step_s`` is read from the index when not given.
+    """
+    index = pd.DatetimeIndex(index)
+    _check_site(latitude, longitude, altitude_m)
+    if step_s is None:
+        step_s = _index_step_s(index)
+    pressure = pvlib.atmosphere.alt2pres(altitude_m) if pressure_pa is None else _as_values(pressure_pa)
+    temperature = DEFAULT_TEMP_AIR_C if temp_air_c is None else _as_values(temp_air_c)
+    midpoints = index + pd.Timedelta(seconds=step_s / 2)
+    pos = sun_position(midpoints, latitude, longitude, altitude_m, pressure, temperature, delta_t_s)
+    apparent = pos["apparent_zenith"].to_numpy(dtype=float)
+    am_rel = np.asarray(pvlib.atmosphere.get_relative_airmass(apparent, model="kastenyoung1989"), dtype=float)
+    am_abs = np.asarray(pvlib.atmosphere.get_absolute_airmass(am_rel, pressure), dtype=float)
+    dni_extra = np.asarray(pvlib.irradiance.get_extra_radiation(midpoints), dtype=float)
+    return SolarGeometry(index=index, apparent_zenith_deg=apparent, zenith_deg=pos["zenith"].to_numpy(dtype=float),
+                         azimuth_deg=pos["azimuth"].to_numpy(dtype=float), dni_extra_w_m2=dni_extra,
+                         airmass_relative=am_rel, airmass_absolute=am_abs)
+
+
+def _as_values(value):
+    if value is None or np.isscalar(value):
+        return value
+    return np.asarray(value, dtype=float)
+
+
+def _index_step_s(index: pd.DatetimeIndex) -> int:
+    if index.freq is not None:
+        return int(pd.Timedelta(index.freq).total_seconds())
+    if len(index) < 2:
+        raise ValueError("cannot tell the time step of an index with fewer than two times; pass step_s")
+    steps = np.unique(np.diff(index.as_unit("s").asi8))
+    if len(steps) != 1:
+        raise ValueError("the index is not regular; pass a regular interval-start index")
+    return int(steps[0])
+
+
+def _check_site(latitude: float, longitude: float, altitude_m: float) -> None:
+    for key, value, low, high in (("site.latitude", latitude, -90.0, 90.0),
+                                  ("site.longitude", longitude, -180.0, 180.0),
+                                  ("site.altitude_m", altitude_m, -500.0, 9000.0)):
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            raise InputError(f"{value!r} is not a number", where=key, hint=f"give a value in {low:g}..{high:g}") from None
+        if not np.isfinite(number) or not low <= number <= high:
+            raise InputError(f"{number!r} is outside {low:g}..{high:g}", where=key,
+                             hint="latitude and longitude in degrees (north and east positive), altitude in metres")
