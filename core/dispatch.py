@@ -357,3 +357,53 @@ def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool =
            bool(p.metering_site), bool(p.export_allowed), float(p.export_limit_w), bool(p.limiter),
            bool(p.recharge_reserve_from_grid), out)
     return DispatchResult(flows=out)
+
+
+def _batch(lb, lg, dco, dcl, abo, abl, ago, agl, up, dt, usable, e0, reserve, floor, ch_max, dis_max, rte,
+           inv_ac, inv_dc, chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim, limiter, recharge, out):
+    for i in _prange(dco.shape[0]):
+        _step_loop(lb, lg, dco[i], dcl[i], abo[i], abl[i], ago[i], agl[i], up, dt, usable, e0, reserve, floor,
+                   ch_max, dis_max, rte, inv_ac, inv_dc, chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim,
+                   limiter, recharge, out[i])
+    return out
+
+
+try:
+    _prange = numba.prange
+    _step_loop = _compiled_kernel
+    _compiled_batch = numba.njit(cache=True, parallel=True)(_batch)
+except NameError:  # pragma: no cover - numba is a declared dependency
+    _prange = range
+    _step_loop = _kernel
+    _compiled_batch = _batch
+
+
+def dispatch_many(load_backed_w, load_grid_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
+                  *, compiled: bool = True) -> np.ndarray:
+    """Run the engine for many source variants that share loads, grid and plant (a sweep).
+
+    ``sources`` maps ``dc_out_w``, ``dc_loss_w``, ``ac_backed_out_w``, ``ac_backed_loss_w``,
+    ``ac_grid_out_w`` and ``ac_grid_loss_w`` to arrays of shape (variants, steps). Returns the flows
+    with shape (variants, len(FLOWS), steps); variant ``i`` equals ``dispatch`` on row ``i``.
+    """
+    lb = np.ascontiguousarray(load_backed_w, dtype=float)
+    n = lb.shape[0]
+    rows = [np.ascontiguousarray(np.asarray(sources[k], dtype=float).reshape(-1, n)) for k in (
+        "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")]
+    k = rows[0].shape[0]
+    out = np.zeros((k, len(FLOWS), n))
+    p = params
+    args = (lb, _as_float(load_grid_w, n), *rows,
+            np.ascontiguousarray(np.broadcast_to(np.asarray(grid_up, dtype=np.bool_), (n,))),
+            float(p.dt_h), float(p.usable_wh), float(p.initial_wh), float(p.reserve_wh), float(p.floor_wh),
+            float(p.charge_max_w), float(p.discharge_max_w), float(p.roundtrip_efficiency),
+            np.ascontiguousarray(p.inverter_ac_w, dtype=float), np.ascontiguousarray(p.inverter_dc_w, dtype=float),
+            float(p.charger_rating_w), float(p.charger_efficiency), float(p.idle_w), float(p.standing_draw_w),
+            bool(p.metering_site), bool(p.export_allowed), float(p.export_limit_w), bool(p.limiter),
+            bool(p.recharge_reserve_from_grid), out)
+    if compiled:
+        _compiled_batch(*args)
+    else:
+        for i in range(k):
+            _kernel(*args[:2], *(r[i] for r in rows), *args[8:-1], out[i])
+    return out
