@@ -38,8 +38,9 @@ class Household:
     water_heater_w: float = 0.0  # grid-only
     dryer_w: float = 0.0  # grid-only, some evenings
     ev_w: float = 0.0  # grid-only, some nights
-    write_as: str = "power_w"  # "power_w", "energy_kwh" (per interval) or "register_kwh"
+    write_as: str = "power_w"  # "power_w", "power_kw", "energy_kwh" (per interval) or "register_kwh"
     separator: str = ","
+    decimal: str = "."
     gaps: tuple[tuple[str, str], ...] = field(default=())  # periods left out of the file (logger offline)
 
 
@@ -91,6 +92,9 @@ def write_load_files(h: Household) -> list[Path]:
         power = table[column]
         if h.write_as == "power_w":
             out = pd.DataFrame({"timestamp": power.index.strftime("%Y-%m-%d %H:%M"), "power_w": power.to_numpy()})
+        elif h.write_as == "power_kw":
+            out = pd.DataFrame({"timestamp": power.index.strftime("%Y-%m-%d %H:%M"),
+                                "power_kw": (power / 1000.0).round(4).to_numpy()})
         elif h.write_as == "energy_kwh":
             out = pd.DataFrame({"timestamp": power.index.strftime("%Y-%m-%d %H:%M"),
                                 "energy_kwh": (power * step_h / 1000.0).round(5).to_numpy()})
@@ -99,7 +103,7 @@ def write_load_files(h: Household) -> list[Path]:
             end = power.index + pd.Timedelta(h.step)
             out = pd.DataFrame({"timestamp": end.strftime("%Y-%m-%d %H:%M"), "register_kwh": register.round(4).to_numpy()})
         path = HERE / h.folder / name
-        out.to_csv(path, index=False, sep=h.separator)
+        out.to_csv(path, index=False, sep=h.separator, decimal=h.decimal)
         written.append(path)
     return written
 
@@ -110,6 +114,20 @@ HOUSEHOLDS = {
         folder="maple_hollow", timezone="America/New_York", start="2025-01-01", end="2026-01-01", step="15min",
         seed=20231, standing_w=95.0, fridge_w=140.0, office_w=160.0, cooking_w=900.0, lighting_w=180.0,
         heating_w=600.0, cooling_w=2600.0, water_heater_w=550.0, dryer_w=2400.0, ev_w=3300.0),
+    # A small fishing family's house on an Alaskan island: a meter's cumulative register read every
+    # 5 minutes over one summer (the logger was fitted in May), plus a year of bills.
+    "harbour_view": Household(
+        folder="harbour_view", timezone="America/Anchorage", start="2025-05-12", end="2025-09-08", step="5min",
+        seed=5501, standing_w=70.0, fridge_w=110.0, office_w=0.0, cooking_w=700.0, lighting_w=140.0,
+        heating_w=450.0, cooling_w=0.0, summer_peak_doy=215, water_heater_w=0.0, dryer_w=2000.0, ev_w=0.0,
+        write_as="register_kwh", gaps=(("2025-07-03 10:00", "2025-07-04 16:00"),)),
+    # A farmhouse on a dry, sunny plateau in the southern hemisphere (summer in January): seven weeks of
+    # one-minute power readings in kW, semicolon-separated with decimal commas, plus twelve bills.
+    "red_dune": Household(
+        folder="red_dune", timezone="Africa/Johannesburg", start="2025-02-03", end="2025-03-24", step="1min",
+        seed=7702, standing_w=120.0, fridge_w=160.0, office_w=220.0, cooking_w=1200.0, lighting_w=160.0,
+        heating_w=300.0, cooling_w=1800.0, summer_peak_doy=20, water_heater_w=1500.0, dryer_w=0.0, ev_w=0.0,
+        write_as="power_kw", separator=";", decimal=","),
 }
 
 
