@@ -11,7 +11,7 @@ import pvlib
 import pytest
 
 from core.errors import InputError
-from core.timebase import NOMINAL_YEAR, nominal_index
+from core.timebase import NOMINAL_YEAR, nominal_index, standard_offset
 from core.weather import interpolate_weather, read_weather_file, timezone_for
 
 PVLIB_DATA = pathlib.Path(pvlib.__file__).parent / "data"
@@ -214,6 +214,21 @@ def test_timezone_for_finds_zones_offline():
     assert timezone_for(0.0, -150.0) == "Etc/GMT+10"
     with pytest.raises(InputError, match="site.latitude"):
         timezone_for(123.0, 0.0)
+
+
+def test_timezone_fallback_follows_the_posix_sign(monkeypatch):
+    # When the lookup finds nothing, the zone comes from the longitude. The IANA tz database (as shipped to Python's
+    # zoneinfo) defines Etc/GMT+N as N hours BEHIND UTC, so 150 W must give Etc/GMT+10 = UTC-10.
+    import timezonefinder
+
+    class NoZone:
+        def timezone_at(self, **_):
+            return None
+
+    monkeypatch.setattr(timezonefinder, "TimezoneFinder", NoZone)
+    for longitude, hours in ((-150.0, -10), (100.0, 7), (3.0, 0)):
+        name = timezone_for(10.0, longitude)
+        assert standard_offset(name) == dt.timezone(dt.timedelta(hours=hours)), name
 
 
 # ---- bad input: every message names the file and the place in it
