@@ -59,7 +59,8 @@ def _weather(sc: Scenario, tz) -> weather_io.Weather:
         return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
                                longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
     path = sc.resolve(w.path, "weather.path")
-    return weather_io.read_weather_file(path, fmt=w.format, tz=tz)
+    return weather_io.read_weather_file(path, fmt=w.format, tz=tz, latitude=sc.site.latitude,
+                                        longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
 
 
 def _load(sc: Scenario, path_key: str, column_key: str, monthly_key: str, step_s: int, tz,
