@@ -1,0 +1,1 @@
+"""secondroof core: physics, rules and orchestration (no Streamlit)."""
