@@ -90,7 +90,7 @@ def payback_months(investment: float, yearly_savings: Sequence[float]) -> float 
     cumulative = 0.0
     for year, saving in enumerate(yearly_savings):
         if saving > 0 and cumulative + saving >= investment:
-            return (year + (investment - cumulative) / saving) * MONTHS_PER_YEAR
+            return float((year + (investment - cumulative) / saving) * MONTHS_PER_YEAR)
         cumulative += saving
     return None
 
