@@ -1,0 +1,315 @@
+"""The small tidy tables behind every figure of the explorer and the HTML report.
+
+Pure functions over a simulated year (the per-step table and its :class:`core.metrics.Results`); each returns a
+long-format DataFrame with the unit in a column name, so that a chart builder only maps columns to channels.
+The explorer draws them with Altair, the HTML report as inline SVG; both read the same numbers.
+"""
+
+from __future__ import annotations
+
+import calendar
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+# ---------------------------------------------------------------------------------------------- colours
+# The Okabe–Ito palette, distinguishable under the common colour-vision deficiencies (Okabe & Ito, "Color
+# Universal Design", 2008; openly published). One meaning, one colour, in the explorer and the HTML report.
+BLACK = "#000000"
+ORANGE = "#E69F00"
+SKY_BLUE = "#56B4E9"
+BLUISH_GREEN = "#009E73"
+YELLOW = "#F0E442"
+BLUE = "#0072B2"
+VERMILLION = "#D55E00"
+REDDISH_PURPLE = "#CC79A7"
+GREY = "#8C8C8C"
+
+#: Where the PV energy goes.
+DESTINATION_COLOURS = {
+    "Used directly by the loads": BLUISH_GREEN,
+    "Into the battery": SKY_BLUE,
+    "Curtailed": ORANGE,
+    "Clipped": REDDISH_PURPLE,
+    "Exported": VERMILLION,
+}
+
+#: Powers over a day.
+SERIES_COLOURS = {
+    "Backed-up loads": BLACK,
+    "All loads": REDDISH_PURPLE,
+    "Daytime base load": GREY,
+    "AC-coupled PV output": ORANGE,
+    "DC-coupled PV output": BLUE,
+    "Battery SOC": BLUISH_GREEN,
+}
+
+#: The expansion options.
+OPTION_COLOURS = {
+    "Existing system": GREY,
+    "AC-coupled, backed-up side": ORANGE,
+    "AC-coupled, grid side": VERMILLION,
+    "DC-coupled": BLUE,
+}
+
+#: Check outcomes.
+STATUS_COLOURS = {"pass": BLUISH_GREEN, "warn": ORANGE, "fail": VERMILLION}
+
+#: Diverging map for "below / above the base load" (blue = under, orange = surplus), colour-blind safe.
+DIVERGING_SCHEME = "blueorange"
+#: Sequential map for amounts (viridis: perceptually uniform and colour-blind safe).
+SEQUENTIAL_SCHEME = "viridis"
+
+MONTH_NAMES = tuple(calendar.month_abbr[m] for m in range(1, 13))
+MONTH_FULL_NAMES = tuple(calendar.month_name[m] for m in range(1, 13))
+
+#: Where PV energy goes: (figure key in Results.months, label), in stacking order.
+DESTINATIONS = (
+    ("pv_direct", "Used directly by the loads"),
+    ("pv_to_battery", "Into the battery"),
+    ("curtailed", "Curtailed"),
+    ("clipped", "Clipped"),
+    ("exported", "Exported"),
+)
+
+
+def pv_destinations_by_month(months: list[dict]) -> pd.DataFrame:
+    """Month × destination energy (kWh): columns ``month``, ``month_name``, ``destination``, ``order``, ``kwh``."""
+    rows = []
+    for m in months:
+        for order, (key, label) in enumerate(DESTINATIONS):
+            rows.append({"month": int(m["month"]), "month_name": MONTH_NAMES[int(m["month"]) - 1],
+                         "destination": label, "order": order, "kwh": max(float(m.get(key, 0.0)), 0.0)})
+    return pd.DataFrame(rows, columns=["month", "month_name", "destination", "order", "kwh"])
+
+
+def _hour_of_day(index: pd.DatetimeIndex) -> np.ndarray:
+    return index.hour.to_numpy() + index.minute.to_numpy() / 60.0
+
+
+def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
+                base_load_w: float | None = None) -> pd.DataFrame:
+    """Mean powers by time of day over one month (W) and the mean battery SOC (%).
+
+    Columns ``hour`` (interval start, hours after local standard midnight), ``series``, ``value`` and ``unit``
+    ("W" or "%"). Series: backed-up loads, all loads, AC-coupled and DC-coupled PV output, the month's daytime
+    base load (a constant, when given) and the battery SOC (when there is a battery).
+    """
+    part = steps[steps.index.month == month]
+    hour = _hour_of_day(part.index)
+    frame = pd.DataFrame({
+        "hour": hour,
+        "Backed-up loads": part["load_backed_w"].to_numpy(),
+        "All loads": (part["load_backed_w"] + part["load_grid_w"]).to_numpy(),
+        "AC-coupled PV output": (part["ac_backed_out_w"] + part["ac_grid_out_w"]).to_numpy(),
+        "DC-coupled PV output": part["dc_out_w"].to_numpy(),
+    })
+    if usable_wh > 0:
+        frame["Battery SOC"] = part["soc_wh"].to_numpy() / usable_wh * 100.0
+    means = frame.groupby("hour").mean()
+    if base_load_w is not None and np.isfinite(base_load_w):
+        means["Daytime base load"] = float(base_load_w)
+    long = means.reset_index().melt(id_vars="hour", var_name="series", value_name="value")
+    long["unit"] = np.where(long["series"] == "Battery SOC", "%", "W")
+    return long
+
+
+def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | None = None, *,
+                          loads_w: pd.Series | None = None) -> pd.DataFrame:
+    """AC-coupled output against the base load by month and hour of day.
+
+    ``base_load_w`` holds 12 monthly daytime base loads (W); without it the mean load of that month and hour is
+    the reference. Columns ``month``, ``month_name``, ``hour``, ``ac_w`` (mean AC-coupled output),
+    ``reference_w`` and ``surplus_w`` = ``ac_w`` − ``reference_w``: above zero the output exceeds what the
+    base load takes, and must go into the battery, be curtailed or leave the site.
+    """
+    ac = steps["ac_backed_out_w"] + steps["ac_grid_out_w"]
+    load = loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_w"]
+    frame = pd.DataFrame({"month": steps.index.month, "hour": steps.index.hour, "ac_w": ac.to_numpy(),
+                          "load_w": np.asarray(load, dtype=float)})
+    means = frame.groupby(["month", "hour"], as_index=False).mean()
+    if base_load_w is not None:
+        base = np.asarray([np.nan if v is None else v for v in base_load_w], dtype=float)
+        means["reference_w"] = base[means["month"].to_numpy() - 1]
+        missing = ~np.isfinite(means["reference_w"])
+        means.loc[missing, "reference_w"] = means.loc[missing, "load_w"]
+    else:
+        means["reference_w"] = means["load_w"]
+    means["surplus_w"] = means["ac_w"] - means["reference_w"]
+    means["month_name"] = [MONTH_NAMES[m - 1] for m in means["month"]]
+    return means[["month", "month_name", "hour", "ac_w", "reference_w", "surplus_w"]]
+
+
+def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
+                        loads_w: pd.Series | None = None) -> pd.DataFrame:
+    """Duration curve over the daylight steps: AC-coupled output minus the load at that moment (W), sorted
+    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``."""
+    ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
+    load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_w"], dtype=float)
+    day = np.asarray(daylight, dtype=bool)
+    surplus = np.sort((ac - load)[day])[::-1]
+    return pd.DataFrame({"hours": np.arange(1, len(surplus) + 1) * dt_h, "surplus_w": surplus})
+
+
+@dataclass(frozen=True)
+class Headline:
+    """One headline figure: the option's value, the baseline's and which way is better."""
+
+    key: str
+    label: str
+    unit: str
+    value: float | None
+    baseline: float | None
+    higher_is_better: bool
+    alarm_when_nonzero: bool = False
+    help: str = ""
+
+    @property
+    def delta(self) -> float | None:
+        if self.value is None or self.baseline is None:
+            return None
+        return self.value - self.baseline
+
+
+def loads_from_pv_kwh(energy_kwh: dict) -> float:
+    """Energy delivered to the loads that did not come from the grid (kWh): loads served − grid import.
+
+    Grid import that fed conversion losses or the battery is subtracted too, so this is a conservative figure
+    for what PV (directly or through the battery) gave the loads.
+    """
+    return max(energy_kwh["load_served"] - energy_kwh["grid_import"], 0.0)
+
+
+def headline_figures(results, baseline, *, payback_years: float | None = None,
+                     baseline_payback_years: float | None = None) -> list[Headline]:
+    """The headline figures of an option against the existing system (both :class:`core.metrics.Results`)."""
+    e, b = results.energy_kwh, baseline.energy_kwh
+
+    def pct(r, key):
+        v = r.ratios.get(key)
+        return None if v is None else v * 100.0
+
+    return [
+        Headline("loads_from_pv", "Loads supplied from PV", "kWh/yr", loads_from_pv_kwh(e), loads_from_pv_kwh(b),
+                 True, help="loads served minus grid import, over the year"),
+        Headline("curtailed", "Curtailed", "kWh/yr", e["curtailed"], b["curtailed"], False,
+                 help="PV energy the controllers or the frequency-watt response held back"),
+        Headline("clipped", "Clipped", "kWh/yr", e["clipped"], b["clipped"], False,
+                 help="PV energy above a converter's rating"),
+        Headline("exported_uncontrolled", "Uncontrolled export", "kWh/yr", e["exported_uncontrolled"],
+                 b["exported_uncontrolled"], False, alarm_when_nonzero=True,
+                 help="energy that left the site where export is not allowed or above the export limit"),
+        Headline("grid_import", "Grid import", "kWh/yr", e["grid_import"], b["grid_import"], False,
+                 help="including the standing draw"),
+        Headline("self_sufficiency", "Self-sufficiency", "%", pct(results, "self_sufficiency"),
+                 pct(baseline, "self_sufficiency"), True, help="1 − grid import / load (Luthander et al. 2015)"),
+        Headline("payback", "Simple payback", "years", payback_years, baseline_payback_years, False,
+                 help="cost of the new panels over the first year's saving"),
+    ]
+
+
+def secondary_figures(sim, baseline_sim) -> list[Headline]:
+    """Further figures of an option against the existing system (both :class:`core.simulate.Simulation`)."""
+    r, b = sim.results, baseline_sim.results
+    e, eb = r.energy_kwh, b.energy_kwh
+    dt_h, dt_b = sim.site.dt_h, baseline_sim.site.dt_h
+    return [
+        Headline("harvested", "PV harvested", "kWh/yr", e["harvested"], eb["harvested"], True,
+                 help="module DC potential less curtailment and clipping"),
+        Headline("ac_harvest", "AC-coupled PV used", "kWh/yr", ac_harvest_kwh(sim.steps, dt_h),
+                 ac_harvest_kwh(baseline_sim.steps, dt_b), True,
+                 help="microinverter output taken by the loads or the charger"),
+        Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported"] - e["exported_uncontrolled"],
+                 eb["exported"] - eb["exported_uncontrolled"], True, help="allowed export only"),
+        Headline("unserved", "Unserved in outages", "kWh/yr", e["unserved"], eb["unserved"], False,
+                 help="backed-up load that could not be served during grid outages"),
+        Headline("cycles", "Battery cycles", "cycles/yr", r.battery.get("equivalent_full_cycles"),
+                 b.battery.get("equivalent_full_cycles"), False, help="equivalent full cycles"),
+    ]
+
+
+def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.DataFrame:
+    """One row per grid outage: ``start``, ``hours``, ``unserved_kwh``, ``unserved_hours``, ``lowest_soc_pct``."""
+    up = steps["grid_up"].to_numpy(dtype=bool)
+    columns = ["start", "hours", "unserved_kwh", "unserved_hours", "lowest_soc_pct"]
+    if up.all():
+        return pd.DataFrame(columns=columns)
+    down = (~up).astype(np.int8)
+    edges = np.diff(np.concatenate([[0], down, [0]]))
+    starts = np.flatnonzero(edges == 1)
+    ends = np.flatnonzero(edges == -1)
+    unserved = steps["unserved_w"].to_numpy()
+    soc = steps["soc_wh"].to_numpy()
+    rows = []
+    for s, e in zip(starts, ends, strict=True):
+        rows.append({
+            "start": steps.index[s],
+            "hours": (e - s) * dt_h,
+            "unserved_kwh": float(unserved[s:e].sum() * dt_h / 1000.0),
+            "unserved_hours": float((unserved[s:e] > 1e-6).sum() * dt_h),
+            "lowest_soc_pct": float(soc[s:e].min() / usable_wh * 100.0) if usable_wh > 0 else 0.0,
+        })
+    return pd.DataFrame(rows, columns=columns)
+
+
+def ac_harvest_kwh(steps: pd.DataFrame, dt_h: float) -> float:
+    """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh)."""
+    return float((steps["ac_backed_used_w"] + steps["ac_grid_used_w"]).sum() * dt_h / 1000.0)
+
+
+# ------------------------------------------------------------------------------------------------ formatting
+def fmt_kwh(x: float | None, *, signed: bool = False) -> str:
+    """A year's energy: no decimals, thousands separated (``1,234 kWh``)."""
+    if x is None or not np.isfinite(x):
+        return "—"
+    x = 0.0 if abs(x) < 0.5 else x
+    return f"{x:+,.0f} kWh" if signed else f"{x:,.0f} kWh"
+
+
+def fmt_w(x: float | None, *, signed: bool = False) -> str:
+    """A power: whole watts (``350 W``)."""
+    if x is None or not np.isfinite(x):
+        return "—"
+    x = 0.0 if abs(x) < 0.5 else x
+    return f"{x:+,.0f} W" if signed else f"{x:,.0f} W"
+
+
+def fmt_pct(x: float | None, *, signed: bool = False) -> str:
+    """A share in percent with one decimal (``12.3 %``); ``x`` is already in percent."""
+    if x is None or not np.isfinite(x):
+        return "—"
+    x = 0.0 if abs(x) < 0.05 else x
+    return f"{x:+.1f} %" if signed else f"{x:.1f} %"
+
+
+def fmt_hours(x: float | None) -> str:
+    if x is None or not np.isfinite(x):
+        return "—"
+    return f"{x:,.0f} h" if x >= 10 else f"{x:.1f} h"
+
+
+def fmt_years(x: float | None, *, signed: bool = False) -> str:
+    """Years with one decimal; None is "—" (no figure), infinity "never within the period"."""
+    if x is None or np.isnan(x):
+        return "—"
+    if not np.isfinite(x):
+        return "not within the period"
+    return f"{x:+.1f} years" if signed else f"{x:.1f} years"
+
+
+def fmt_value(x: float | None, unit: str, *, signed: bool = False) -> str:
+    """Format by unit: ``kWh/yr`` and ``kWh`` as energy, ``W``, ``%``, ``h`` and ``years``."""
+    if unit.startswith("kWh"):
+        return fmt_kwh(x, signed=signed)
+    if unit == "W":
+        return fmt_w(x, signed=signed)
+    if unit == "%":
+        return fmt_pct(x, signed=signed)
+    if unit == "h":
+        return fmt_hours(x)
+    if unit == "years":
+        return fmt_years(x, signed=signed)
+    if unit == "cycles/yr":
+        return "—" if x is None else (f"{x:+,.0f} cycles" if signed else f"{x:,.0f} cycles")
+    return "—" if x is None else f"{x:,.1f} {unit}"

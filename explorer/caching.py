@@ -1,0 +1,104 @@
+"""Caching at the edge of the page: the expensive parts of a simulation, kept across reruns and sessions.
+
+* the site (weather, sun, loads, outages) per site — :func:`core.simulate.prepare_site`;
+* one module's output per orientation, in one :class:`core.simulate.OrientationCache` per weather and site,
+  so that a panel-count change never recomputes irradiance;
+* finished simulations per full scenario, so that moving a control back is instant.
+
+Keys are text built from the scenario sections that matter (TOML with absolute paths), never pickled content.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+
+import streamlit as st
+
+from core.scenario import Scenario, scenario_to_dict
+from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, run, source_power
+
+
+def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> str:
+    table = scenario_to_dict(sc)
+    part = {s: table.get(s) for s in sections}
+    part["base_dir"] = str(sc.base_dir)
+    if extra:
+        part.update(extra)
+    return json.dumps(part, sort_keys=True, default=str)
+
+
+def weather_key(sc: Scenario) -> str:
+    """What one module's output per orientation depends on besides the module: the place and the weather."""
+    return _key(sc, ("site", "weather", "simulation"))
+
+
+def site_key(sc: Scenario) -> str:
+    """What :func:`prepare_site` depends on: place, weather, loads and the outage definitions."""
+    g = sc.grid
+    outages = {"outages_path": g.outages_path,
+               "random_outages": dataclasses.asdict(g.random_outages) if g.random_outages else None}
+    return _key(sc, ("site", "weather", "load", "simulation"), {"outages": outages})
+
+
+@st.cache_resource(max_entries=12, show_spinner=False)
+def _site(key: str, _sc: Scenario) -> SiteData:
+    return prepare_site(_sc)
+
+
+@st.cache_resource(max_entries=12, show_spinner=False)
+def _orientations(key: str) -> OrientationCache:
+    return OrientationCache()
+
+
+@st.cache_resource(max_entries=96, show_spinner=False)
+def _simulation(key: str, _sc: Scenario) -> Simulation:
+    site = site_data(_sc)
+    return run(_sc, site, source_power(_sc, site, orientation_cache(_sc)))
+
+
+def site_data(sc: Scenario) -> SiteData:
+    return _site(site_key(sc), sc)
+
+
+def orientation_cache(sc: Scenario) -> OrientationCache:
+    return _orientations(weather_key(sc))
+
+
+def simulation(sc: Scenario) -> Simulation:
+    """The simulated year of a scenario (with any expansion already added as an array)."""
+    return _simulation(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                                "microinverters", "arrays", "grid")), sc)
+
+
+@st.cache_data(max_entries=24, show_spinner=False)
+def _base_load(key: str, reference: str, _sc: Scenario, option: str) -> list[float]:
+    from explorer.derived import daytime_base_load_w
+
+    return [float(v) for v in daytime_base_load_w(_sc, site_data(_sc), option)]
+
+
+def daytime_base_load(sc: Scenario, option: str) -> list[float]:
+    """The monthly daytime base load (W) of the loads the option's AC-coupled output meets first."""
+    from explorer.derived import reference_label
+
+    return _base_load(site_key(sc), reference_label(sc, option), sc, option)
+
+
+@st.cache_resource(max_entries=48, show_spinner=False)
+def _comparison(key: str, _sc: Scenario):
+    from core.compare import compare
+
+    return compare(_sc, site=site_data(_sc), cache=orientation_cache(_sc))
+
+
+def comparison(sc: Scenario):
+    """Every applicable option of the scenario (its expansion's layout) against the existing system:
+    :func:`core.compare.compare` on the cached site and orientations, or :class:`explorer.adapters.Missing`."""
+    from explorer import adapters
+
+    mod = adapters.compare_module()
+    if isinstance(mod, adapters.Missing):
+        return mod
+    return _comparison(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                                "microinverters", "arrays", "grid", "expansion", "tariff")), sc)

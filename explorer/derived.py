@@ -1,0 +1,37 @@
+"""Inputs of the base-load view that depend on the option: which loads the AC-coupled output meets first."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from core.loads import base_load_w
+from core.scenario import Scenario
+
+
+def reference_loads_w(sc: Scenario, site, option: str) -> pd.Series:
+    """The loads an option's AC-coupled output offsets directly (W per step).
+
+    With site metering the controller sees every load, so all loads count; with inverter metering the
+    backed-up side output meets the backed-up loads and the grid-side output the grid-only loads.
+    """
+    if sc.grid.metering == "site":
+        values = site.load_backed_w + site.load_grid_w
+    elif option == "ac_grid":
+        values = site.load_grid_w
+    else:
+        values = site.load_backed_w
+    return pd.Series(np.asarray(values, dtype=float), index=site.index)
+
+
+def reference_label(sc: Scenario, option: str) -> str:
+    if sc.grid.metering == "site":
+        return "all loads (the controller meters the whole site)"
+    return "grid-only loads" if option == "ac_grid" else "backed-up loads"
+
+
+def daytime_base_load_w(sc: Scenario, site, option: str) -> np.ndarray:
+    """Twelve monthly daytime base loads (W), NaN where a month has too little data."""
+    table = base_load_w(reference_loads_w(sc, site, option), latitude=sc.site.latitude,
+                        longitude=sc.site.longitude)
+    return table["day_w"].to_numpy(dtype=float)

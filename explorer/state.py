@@ -1,0 +1,278 @@
+"""The what-if state: the page's controls as one frozen record, and the scenario they describe.
+
+Pure functions, no Streamlit: the page reads widgets into :class:`Controls`, :func:`build_scenario` turns a base
+scenario and the controls into a validated scenario, and :func:`scenario_download` writes that scenario as a file
+that loads back to the same figures.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+from core.errors import InputError
+from core.options import OPTION_LABELS, applicable_options, layout_of
+from core.scenario import RandomOutages, Scenario, parse_scenario, scenario_to_dict
+
+#: The couplings the explorer offers for the new panels (the options other than the existing system).
+COUPLINGS = ("ac_backed_up", "ac_grid", "dc")
+COUPLING_LABELS = {k: OPTION_LABELS[k] for k in COUPLINGS}
+
+OUTAGE_MODES = ("none", "scenario", "random")
+OUTAGE_LABELS = {"none": "No outages", "scenario": "As in the scenario file", "random": "Random outages"}
+DEFAULT_OUTAGES_PER_YEAR = 3.0
+DEFAULT_OUTAGE_HOURS = 4.0
+
+#: Largest upload the page accepts (bytes): a year of one-minute readings in CSV is about 20 MB.
+MAX_UPLOAD_BYTES = 40 * 1024 * 1024
+
+#: The comment line that carries the chosen coupling in a downloaded scenario (the schema has no key for it).
+_OPTION_COMMENT = "# explorer coupling:"
+
+
+@dataclass(frozen=True)
+class Controls:
+    """Every what-if setting on the page, in the scenario's units."""
+
+    option: str  # one of COUPLINGS
+    count: int
+    tilt_deg: float
+    azimuth_deg: float
+    module: str
+    microinverter: str | None
+    battery_kwh: float | None  # None: the system has no battery
+    reserve_pct: float | None
+    standing_draw_w: float
+    export_allowed: bool
+    export_limit_w: float
+    limiter: bool  # microinverters curtailed by an export limiter ("limiter") or left to run ("none")
+    outages: str  # one of OUTAGE_MODES
+    outages_per_year: float
+    outage_mean_hours: float
+
+
+def couplings(sc: Scenario) -> tuple[str, ...]:
+    """The couplings the scenario's ``[expansion]`` allows, in display order."""
+    allowed = applicable_options(sc)
+    return tuple(o for o in COUPLINGS if o in allowed)
+
+
+def outage_modes(sc: Scenario) -> tuple[str, ...]:
+    """"As in the scenario file" is offered only when the file defines outages."""
+    has = sc.grid.outages_path is not None or sc.grid.random_outages is not None
+    return OUTAGE_MODES if has else ("none", "random")
+
+
+def panel_count_max(sc: Scenario) -> int:
+    """Upper end of the panel-count control: room to explore well past the planned count."""
+    count = sc.expansion.count if sc.expansion else 0
+    return int(max(12, 3 * count))
+
+
+def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
+    """The controls that reproduce the scenario as it is (``option`` defaults to the first allowed coupling)."""
+    allowed = couplings(sc)
+    if option not in allowed:
+        option = allowed[0] if allowed else "ac_backed_up"
+    lay = layout_of(sc)
+    e, b, g = sc.expansion, sc.battery, sc.grid
+    random = g.random_outages
+    return Controls(
+        option=option, count=int(lay.count), tilt_deg=float(lay.tilt_deg), azimuth_deg=float(lay.azimuth_deg),
+        module=e.module if e else next(iter(sc.modules)),
+        microinverter=e.microinverter if e else None,
+        battery_kwh=float(b.usable_kwh) if b else None, reserve_pct=float(b.reserve_pct) if b else None,
+        standing_draw_w=float(g.standing_draw_w), export_allowed=bool(g.export_allowed),
+        export_limit_w=float(g.export_limit_w), limiter=g.ac_export_control == "limiter",
+        outages="scenario" if "scenario" in outage_modes(sc) else "none",
+        outages_per_year=float(random.per_year) if random else DEFAULT_OUTAGES_PER_YEAR,
+        outage_mean_hours=float(random.mean_hours) if random else DEFAULT_OUTAGE_HOURS,
+    )
+
+
+def check_controls(sc: Scenario, c: Controls) -> None:
+    """Settings that cannot work together, named as the page names them."""
+    if c.option not in couplings(sc):
+        raise InputError(f"the coupling {COUPLING_LABELS.get(c.option, c.option)!r} needs more information in "
+                         "the scenario's [expansion]", where="Coupling",
+                         hint="AC-coupled options need a microinverter, the DC-coupled one a controller and a battery")
+    if c.module not in sc.modules:
+        raise InputError(f"no module named {c.module!r}", where="Module")
+    if c.option in ("ac_backed_up", "ac_grid") and c.microinverter not in sc.microinverters:
+        raise InputError(f"no microinverter named {c.microinverter!r}", where="Microinverter")
+    if c.export_allowed and c.export_limit_w <= 0:
+        raise InputError("export is allowed but the export limit is 0 W", where="Export limit",
+                         hint="set a limit above 0 W, or choose zero export")
+    b = sc.battery
+    if b is not None and c.reserve_pct is not None and c.reserve_pct < b.floor_pct:
+        raise InputError(f"the outage reserve ({c.reserve_pct:.0f} %) is below the outage floor ({b.floor_pct:.0f} %)",
+                         where="Outage reserve", hint="the reserve kept while the grid is up must be at least the floor")
+    if c.outages == "scenario" and "scenario" not in outage_modes(sc):
+        raise InputError("the scenario file defines no outages", where="Outages", hint="choose none or random")
+
+
+def apply_controls(sc: Scenario, c: Controls) -> Scenario:
+    """The scenario with the controls written into it (the expansion, battery, grid and outage settings)."""
+    e = sc.expansion
+    if e is not None:
+        micro = c.microinverter if e.microinverter is not None and c.microinverter is not None else e.microinverter
+        e = dataclasses.replace(e, count=int(c.count), tilt_deg=float(c.tilt_deg), azimuth_deg=float(c.azimuth_deg),
+                                module=c.module, microinverter=micro)
+    b = sc.battery
+    if b is not None and c.battery_kwh is not None:
+        b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),
+                                reserve_pct=float(c.reserve_pct if c.reserve_pct is not None else b.reserve_pct))
+    g = dataclasses.replace(sc.grid, standing_draw_w=float(c.standing_draw_w), export_allowed=bool(c.export_allowed),
+                            export_limit_w=float(c.export_limit_w) if c.export_allowed else sc.grid.export_limit_w,
+                            ac_export_control="limiter" if c.limiter else "none")
+    if c.outages == "none":
+        g = dataclasses.replace(g, outages_path=None, random_outages=None)
+    elif c.outages == "random":
+        seed = sc.grid.random_outages.seed if sc.grid.random_outages else 0
+        g = dataclasses.replace(g, outages_path=None, random_outages=RandomOutages(
+            per_year=float(c.outages_per_year), mean_hours=float(c.outage_mean_hours), seed=seed))
+    return dataclasses.replace(sc, expansion=e, battery=b, grid=g)
+
+
+def build_scenario(sc: Scenario, c: Controls) -> Scenario:
+    """Apply the controls and validate the result as the scenario loader would (every cross-check)."""
+    check_controls(sc, c)
+    out = apply_controls(sc, c)
+    import tomli_w
+
+    text = tomli_w.dumps(scenario_to_dict(out))
+    return parse_scenario(text, file="the page's settings", base_dir=sc.base_dir, confine_to=sc.confine_to)
+
+
+# --------------------------------------------------------------------------------------------- files
+def slug(text: str) -> str:
+    """A file-name-safe form of a scenario's name."""
+    s = re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower()
+    return s or "scenario"
+
+
+def download_name(sc: Scenario, suffix: str, today: dt.date | None = None) -> str:
+    """``<scenario>_<date><suffix>``, e.g. ``maple-hollow_2025-06-01.toml``."""
+    return f"{slug(sc.name)}_{(today or dt.date.today()).isoformat()}{suffix}"
+
+
+def data_files(sc: Scenario) -> list[Path]:
+    """The data files a scenario names (absolute)."""
+    out = []
+    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
+        value = getattr(getattr(sc, section), key)
+        if value:
+            out.append(sc.resolve(value))
+    return out
+
+
+def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -> str:
+    """The scenario as TOML text for download, with data files named by their file names only.
+
+    Loading it back (with those files in the same folder) gives the same scenario; the chosen coupling travels
+    in a comment line that :func:`option_in_text` reads.
+    """
+    import tomli_w
+
+    table = scenario_to_dict(sc)
+    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
+        if section in table and key in table[section]:
+            table[section][key] = Path(table[section][key]).name
+    names = ", ".join(p.name for p in data_files(sc)) or "none"
+    head = (f"# {sc.name}: saved from the secondroof explorer on {(today or dt.date.today()).isoformat()}.\n"
+            f"# Keep it in one folder with the data files it names: {names}.\n"
+            f"{_OPTION_COMMENT} {option}\n")
+    return head + tomli_w.dumps(table)
+
+
+def option_in_text(text: str) -> str | None:
+    """The coupling saved in a downloaded scenario's comment line, if any (read as plain text, never run)."""
+    for line in text.splitlines()[:10]:
+        if line.startswith(_OPTION_COMMENT):
+            value = line[len(_OPTION_COMMENT):].strip()
+            return value if value in COUPLINGS else None
+    return None
+
+
+def safe_upload_name(name: str) -> str:
+    """The uploaded file's base name with anything but letters, digits, dot, dash and underscore replaced."""
+    base = Path(name.replace("\\", "/")).name
+    base = re.sub(r"[^A-Za-z0-9._-]+", "_", base).lstrip(".")
+    return base or "upload"
+
+
+def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_UPLOAD_BYTES) -> Path:
+    """Store an uploaded file in the session's own folder (never next to the user's files)."""
+    if len(data) > limit_bytes:
+        raise InputError(f"the file is {len(data) / 1e6:.1f} MB, more than the {limit_bytes / 1e6:.0f} MB this page "
+                         "accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
+    if not data:
+        raise InputError("the file is empty", file=name)
+    path = Path(folder) / safe_upload_name(name)
+    path.write_bytes(data)
+    return path
+
+
+def read_upload_scenario(folder: Path, name: str) -> tuple[Scenario, str | None]:
+    """Parse an uploaded scenario from the session folder: paths resolve there and may not leave it."""
+    path = Path(folder) / safe_upload_name(name)
+    raw = path.read_bytes()
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputError("the scenario file is not UTF-8 text", file=name, where=f"byte {exc.start}",
+                         hint="save it as UTF-8") from exc
+    sc = parse_scenario(text, file=name, base_dir=Path(folder), confine_to=Path(folder))
+    return sc, option_in_text(text)
+
+
+def sample_sites(root: Path) -> dict[str, Path]:
+    """Every folder under ``root`` with a scenario.toml, by the scenario's name (folder name as fallback)."""
+    out: dict[str, Path] = {}
+    for path in sorted(Path(root).glob("*/scenario.toml")):
+        try:
+            name = str(tomllib.loads(path.read_text("utf-8")).get("name") or path.parent.name)
+        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+            name = path.parent.name
+        if name in out:
+            name = f"{name} ({path.parent.name})"
+        out[name] = path
+    return out
+
+
+# ------------------------------------------------------------------------------------- uploaded data files
+LOAD_CHANNELS = {"backed_up": "Backed-up loads", "grid_only": "Grid-only loads"}
+
+
+@dataclass(frozen=True)
+class DataOverrides:
+    """Data files uploaded on the page that replace the scenario's own (absolute paths in the session folder)."""
+
+    load_path: str | None = None
+    load_channel: str = "backed_up"
+    load_column: str | None = None
+    load_unit: str | None = None
+    weather_path: str | None = None
+
+
+def apply_overrides(sc: Scenario, ov: DataOverrides) -> Scenario:
+    """The scenario reading the uploaded files instead of its own. A replaced load channel drops the scenario's
+    bill totals for it: they described the old record."""
+    if ov.load_path:
+        # The schema has one ``unit`` for both load channels: the page's choice (or None, decided from the
+        # file) then applies to both.
+        if ov.load_channel == "grid_only":
+            load = dataclasses.replace(sc.load, grid_only_path=ov.load_path, grid_only_column=ov.load_column,
+                                       grid_only_monthly_kwh=None, unit=ov.load_unit)
+        else:
+            load = dataclasses.replace(sc.load, path=ov.load_path, column=ov.load_column, monthly_kwh=None,
+                                       unit=ov.load_unit)
+        sc = dataclasses.replace(sc, load=load)
+    if ov.weather_path:
+        sc = dataclasses.replace(sc, weather=dataclasses.replace(sc.weather, source="file", path=ov.weather_path,
+                                                                 format=None))
+    return sc

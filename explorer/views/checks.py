@@ -1,0 +1,57 @@
+"""Design checks: pass / warn / fail in plain words, with the safety cautions they carry."""
+
+from __future__ import annotations
+
+import html
+
+import streamlit as st
+
+from core.figures import STATUS_COLOURS
+from explorer.adapters import Missing
+
+_WORD = {"pass": "PASS", "warn": "WARN", "fail": "FAIL"}
+_ORDER = {"fail": 0, "warn": 1, "pass": 2}
+
+
+def badge(status: str) -> str:
+    """A small coloured label in words (colour is never the only cue)."""
+    colour = STATUS_COLOURS.get(status, "#555555")
+    return (f'<span style="background:{colour};color:white;font-weight:700;padding:1px 7px;border-radius:4px;'
+            f'font-size:0.8em">{_WORD.get(status, status.upper())}</span>')
+
+
+def line(c) -> str:
+    figures = ""
+    if c.value is not None and c.limit is not None:
+        figures = f" <span style='color:#555'>({c.value:,.1f} {html.escape(c.unit)} against {c.limit:,.1f} " \
+                  f"{html.escape(c.unit)})</span>"
+    subject = html.escape(c.subject or c.id)
+    return (f"{badge(c.status)} <b>{subject}</b> — {html.escape(c.sentence)}{figures}<br>"
+            f"<span style='color:#666;font-size:0.85em'>Source: {html.escape(c.source)}</span>")
+
+
+def render(checks) -> None:
+    if isinstance(checks, Missing):
+        st.info(str(checks))
+        return
+    if not checks:
+        st.info("No design checks apply to this setting.")
+        return
+    ordered = sorted(checks, key=lambda c: _ORDER.get(c.status, 3))
+    counts = {s: sum(c.status == s for c in checks) for s in ("fail", "warn", "pass")}
+    st.markdown(" &nbsp; ".join(f"{badge(s)} {n}" for s, n in counts.items()), unsafe_allow_html=True)
+    flagged = [c for c in ordered if c.status != "pass"]
+    passed = [c for c in ordered if c.status == "pass"]
+    for c in flagged:
+        st.markdown(line(c), unsafe_allow_html=True)
+    if not flagged:
+        st.success("Every check passes for this setting.")
+    if passed:
+        with st.expander(f"Passed checks ({len(passed)})"):
+            for c in passed:
+                st.markdown(line(c), unsafe_allow_html=True)
+    cautions = list(dict.fromkeys(c.caution for c in flagged if c.caution))
+    if cautions:
+        st.markdown("**Cautions that come with the flagged checks**")
+        for text in cautions:
+            st.warning(text)

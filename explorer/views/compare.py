@@ -1,0 +1,87 @@
+"""The options side by side (existing system, AC backed-up side, AC grid side, DC) with the verdict in plain words."""
+
+from __future__ import annotations
+
+import pandas as pd
+import streamlit as st
+
+from core.figures import fmt_kwh, fmt_pct, fmt_years
+from core.options import OPTION_LABELS
+from explorer import adapters, charts
+
+#: (delta key, label) of the energy rows, kWh a year against the existing system.
+ENERGY_ROWS = (
+    ("to_loads_added_kwh", "More to the loads from PV"),
+    ("self_consumed_added_kwh", "More PV self-consumed"),
+    ("battery_discharge_added_kwh", "More from the battery"),
+    ("curtailed_added_kwh", "More curtailed"),
+    ("clipped_added_kwh", "More clipped"),
+    ("export_allowed_added_kwh", "More export within the limit"),
+    ("exported_uncontrolled_kwh", "Uncontrolled export"),
+)
+CHART_ROWS = ("to_loads_added_kwh", "curtailed_added_kwh", "clipped_added_kwh", "exported_uncontrolled_kwh")
+
+
+def options_table(comparison) -> pd.DataFrame:
+    """Figures × options, as text with units (the baseline column holds the existing system's own year)."""
+    opts = [k for k in comparison.options if k != "baseline"]
+    rows = []
+    for key, label in ENERGY_ROWS:
+        rows.append([label + " (kWh/yr)", *[fmt_kwh(comparison.options[k].delta[key], signed=key != "exported_uncontrolled_kwh")
+                                            for k in opts]])
+    rows.append(["Hours with uncontrolled export (h/yr)",
+                 *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
+    rows.append(["More battery cycles (per year)",
+                 *[f"{comparison.options[k].delta['battery_cycles_added']:+,.0f}" for k in opts]])
+    cur = comparison.scenario.tariff.currency
+    for label, get in (
+        (f"Investment ({cur})", lambda e: f"{e.investment:,.0f}"),
+        (f"First-year saving ({cur})", lambda e: f"{e.annual_saving:,.0f}"),
+        ("Simple payback", lambda e: fmt_years(e.simple_payback_years)),
+        ("Discounted payback", lambda e: fmt_years(e.discounted_payback_years)),
+        (f"NPV ({cur})", lambda e: f"{e.npv:,.0f}"),
+        ("IRR", lambda e: "—" if e.irr is None else fmt_pct(e.irr * 100.0)),
+    ):
+        rows.append([label, *[get(comparison.options[k].economics) for k in opts]])
+    return pd.DataFrame(rows, columns=["Against the existing system", *[OPTION_LABELS[k] for k in opts]])
+
+
+def chart_frame(comparison) -> pd.DataFrame:
+    labels = dict(ENERGY_ROWS)
+    return pd.DataFrame([{"option": OPTION_LABELS[k], "figure": labels[key], "kwh": r.delta[key]}
+                         for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
+
+
+def render(comparison, chosen: str):
+    """Draw the comparison; returns (table for the report, verdict text) or (None, None)."""
+    if isinstance(comparison, adapters.Missing):
+        st.info(str(comparison))
+        return None, None
+    if len(comparison.options) < 2:
+        st.info("The scenario's [expansion] allows no option to compare.")
+        return None, None
+    lay = comparison.layout
+    st.markdown(f"**{lay.count} panels at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth**, each way of "
+                f"connecting them against the existing system. The sidebar's choice, "
+                f"*{OPTION_LABELS[chosen]}*, is the one in the headline figures.")
+    v = comparison.verdict
+    with st.container(border=True):
+        st.markdown("**Verdict**")
+        # the energy winner first and the money winner last are the answer; what lies between explains it
+        first, *why = v.reasons
+        money = [r for r in why if r.startswith("On money")]
+        why = [r for r in why if r not in money]
+        st.markdown(first)
+        for r in money:
+            st.markdown(r)
+        if why:
+            with st.expander(f"Why, in {len(why)} point{'s' if len(why) != 1 else ''}"):
+                for r in why:
+                    st.markdown(f"- {r}")
+    table = options_table(comparison)
+    st.dataframe(table, hide_index=True, width="stretch", height=36 * (len(table) + 1) + 3)
+    st.altair_chart(charts.options_chart(chart_frame(comparison)), width="stretch")
+    st.caption("More to the loads from PV = grid import saved + load served in outages that went unserved before. "
+               "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "
+               "export earns nothing. Investment: the scenario's cost_ac / cost_dc.")
+    return table, v.text

@@ -1,0 +1,121 @@
+"""The what-if controls (sidebar): read into one :class:`explorer.state.Controls`."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from core.scenario import Scenario
+from explorer import state
+
+_KEYS = {
+    "option": "c_option", "count": "c_count", "tilt_deg": "c_tilt", "azimuth_deg": "c_azimuth",
+    "module": "c_module", "microinverter": "c_micro", "battery_kwh": "c_battery", "reserve_pct": "c_reserve",
+    "standing_draw_w": "c_standing", "export_allowed": "c_export", "export_limit_w": "c_export_limit",
+    "limiter": "c_limiter", "outages": "c_outages", "outages_per_year": "c_outages_n",
+    "outage_mean_hours": "c_outages_h",
+}
+#: Slider values must have the type of the slider's bounds.
+_WIDGET_TYPES = {"c_count": int, "c_tilt": lambda v: int(round(v)), "c_azimuth": lambda v: int(round(v)) % 360,
+                 "c_reserve": lambda v: int(round(v)), "c_battery": lambda v: round(float(v), 1),
+                 "c_standing": float, "c_export_limit": float, "c_outages_n": float, "c_outages_h": float}
+_COMPASS = ("north", "north-north-east", "north-east", "east-north-east", "east", "east-south-east", "south-east",
+            "south-south-east", "south", "south-south-west", "south-west", "west-south-west", "west",
+            "west-north-west", "north-west", "north-north-west")
+
+
+def compass(azimuth_deg: float) -> str:
+    """The nearest of 16 compass points for an azimuth (degrees clockwise from north)."""
+    return _COMPASS[int(((azimuth_deg % 360) + 11.25) // 22.5) % 16]
+
+
+def reset(sc: Scenario, option_hint: str | None = None) -> None:
+    """Set every control to the scenario's own values (a new scenario was chosen)."""
+    c = state.controls_from_scenario(sc, option_hint)
+    for field, key in _KEYS.items():
+        value = getattr(c, field)
+        if value is None:
+            st.session_state.pop(key, None)
+        else:
+            st.session_state[key] = _WIDGET_TYPES.get(key, lambda v: v)(value)
+
+
+def render(sc: Scenario) -> state.Controls:
+    """Draw the controls for ``sc`` and return their values."""
+    d = state.controls_from_scenario(sc)
+    ss = st.session_state
+    st.header("What if…")
+    allowed = state.couplings(sc)
+    e = sc.expansion
+    if e is None or not allowed:
+        st.info("The scenario has no usable [expansion] section: only the existing system is shown. Add one with "
+                "a module, a count, an orientation and a microinverter or a controller.")
+        option, count, tilt, azimuth, module, micro = d.option, 0, d.tilt_deg, d.azimuth_deg, d.module, d.microinverter
+    else:
+        st.subheader("New panels")
+        if ss.get("c_option") not in allowed:
+            ss["c_option"] = allowed[0]
+        option = st.radio("Coupling", allowed, format_func=state.COUPLING_LABELS.get, key="c_option",
+                          help="AC-coupled: on microinverters, on the backed-up side of the inverter-charger (they "
+                          "keep running in an outage) or on the grid side (they stop in an outage). DC-coupled: on "
+                          f"the charge controller {e.controller!r} (shared with any arrays already on it).")
+        count = st.slider("Panels added", 0, state.panel_count_max(sc), key="c_count")
+        tilt = st.slider("Tilt (°)", 0, 90, key="c_tilt", help="0° = flat, 90° = vertical")
+        azimuth = st.slider("Azimuth (°)", 0, 359, key="c_azimuth",
+                            help="the direction the panels face: 90° = east, 180° = south, 270° = west")
+        st.caption(f"Facing {compass(azimuth)}, tilted {tilt}°.")
+        modules = list(sc.modules)
+        if ss.get("c_module") not in modules:
+            ss["c_module"] = d.module
+        module = st.selectbox("Module", modules, key="c_module",
+                              format_func=lambda m: f"{m} ({sc.modules[m].pmax_w:,.0f} W STC)")
+        micro = d.microinverter
+        if option in ("ac_backed_up", "ac_grid") and sc.microinverters:
+            micros = list(sc.microinverters)
+            if ss.get("c_micro") not in micros:
+                ss["c_micro"] = d.microinverter if d.microinverter in micros else micros[0]
+            micro = st.selectbox("Microinverter", micros, key="c_micro",
+                                 format_func=lambda m: f"{m} ({sc.microinverters[m].ac_rating_w:,.0f} W AC)")
+        elif ss.get("c_micro") in sc.microinverters:
+            micro = ss["c_micro"]
+
+    battery_kwh = reserve = None
+    if sc.battery is not None:
+        st.subheader("Battery")
+        b = sc.battery
+        top = float(max(20.0, round(3 * b.usable_kwh)))
+        battery_kwh = st.slider("Usable capacity (kWh)", 0.0, top, step=0.1, key="c_battery")
+        reserve = st.slider("Outage reserve (% SOC)", int(b.floor_pct), 100, key="c_reserve",
+                            help=f"SOC kept back while the grid is up, for outages. In an outage the battery may go "
+                            f"down to the floor of {b.floor_pct:.0f} %.")
+
+    st.subheader("Grid connection")
+    standing = st.number_input("Standing draw (W)", 0.0, 2000.0, step=5.0, key="c_standing",
+                               help="the small grid import the controller keeps to avoid accidental export")
+    export_allowed = st.radio("Export", [False, True], key="c_export", horizontal=True,
+                              format_func=lambda x: "allowed up to a limit" if x else "zero export") is True
+    limit = ss.get("c_export_limit", d.export_limit_w)
+    if export_allowed:
+        if not limit:
+            ss["c_export_limit"] = 500.0
+        limit = st.number_input("Export limit (W)", 0.0, 1e6, step=50.0, key="c_export_limit")
+    limiter = st.checkbox("Export limiter curtails the microinverters", key="c_limiter",
+                          help="Ticked: a limiter curtails AC-coupled output that would leave the site beyond what "
+                          "is allowed. Unticked: nothing stops it, and it is counted as uncontrolled export.")
+
+    st.subheader("Grid outages")
+    modes = state.outage_modes(sc)
+    if ss.get("c_outages") not in modes:
+        ss["c_outages"] = d.outages
+    outages = st.radio("Outages", modes, format_func=state.OUTAGE_LABELS.get, key="c_outages",
+                       label_visibility="collapsed")
+    per_year, mean_h = d.outages_per_year, d.outage_mean_hours
+    if outages == "random":
+        per_year = st.slider("Outages per year", 0.0, 24.0, step=0.5, key="c_outages_n")
+        mean_h = st.slider("Mean length (h)", 0.5, 48.0, step=0.5, key="c_outages_h")
+
+    return state.Controls(
+        option=option, count=int(count), tilt_deg=float(tilt), azimuth_deg=float(azimuth), module=module,
+        microinverter=micro, battery_kwh=None if battery_kwh is None else float(battery_kwh),
+        reserve_pct=None if reserve is None else float(reserve), standing_draw_w=float(standing),
+        export_allowed=export_allowed, export_limit_w=float(limit or 0.0), limiter=bool(limiter), outages=outages,
+        outages_per_year=float(per_year), outage_mean_hours=float(mean_h))

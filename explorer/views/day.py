@@ -1,0 +1,35 @@
+"""A typical day of a chosen month: loads, base load, AC- and DC-coupled output and the battery SOC."""
+
+from __future__ import annotations
+
+import numpy as np
+import streamlit as st
+
+from core.figures import MONTH_FULL_NAMES, fmt_w, typical_day
+from explorer import charts
+
+
+def sunniest_month(sim) -> int:
+    """The month with the most PV output, a sensible first look."""
+    s = sim.steps
+    out = (s["ac_backed_out_w"] + s["ac_grid_out_w"] + s["dc_out_w"]).groupby(s.index.month).sum()
+    return int(out.idxmax()) if len(out) and out.max() > 0 else 6
+
+
+def render(sim, base_load_w: list[float]) -> None:
+    if st.session_state.get("day_month") not in range(1, 13):
+        st.session_state["day_month"] = sunniest_month(sim)
+    month = st.select_slider("Month", options=list(range(1, 13)), format_func=lambda m: MONTH_FULL_NAMES[m - 1],
+                             key="day_month")
+    usable_wh = sim.scenario.battery.usable_kwh * 1000.0 if sim.scenario.battery else 0.0
+    base = base_load_w[month - 1]
+    frame = typical_day(sim.steps, month, usable_wh=usable_wh, base_load_w=base)
+    st.altair_chart(charts.typical_day_chart(frame, MONTH_FULL_NAMES[month - 1]), width="stretch")
+    w = frame[frame["unit"] == "W"].pivot_table(index="hour", columns="series", values="value")
+    ac = w.get("AC-coupled PV output")
+    peak_ac = float(ac.max()) if ac is not None else 0.0
+    text = f"In {MONTH_FULL_NAMES[month - 1]} the mean AC-coupled output peaks at {fmt_w(peak_ac)}"
+    if np.isfinite(base):
+        text += f", against a daytime base load of {fmt_w(base)}"
+    st.caption(text + ". Means over the month's days hide the sunniest ones; *Output vs base load* shows every "
+               "hour of the year.")

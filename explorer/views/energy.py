@@ -1,0 +1,23 @@
+"""Where the PV energy goes, month by month."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from core.figures import DESTINATIONS, MONTH_NAMES, pv_destinations_by_month
+from explorer import charts
+
+
+def render(sim, baseline) -> None:
+    frame = pv_destinations_by_month(sim.results.months)
+    st.altair_chart(charts.pv_destinations_chart(frame), width="stretch")
+    table = frame.pivot_table(index="destination", columns="month", values="kwh", sort=False)
+    table.columns = [MONTH_NAMES[m - 1] for m in table.columns]
+    table["Year"] = table.sum(axis=1)
+    base = {label: baseline.results.energy_kwh[key] for key, label in DESTINATIONS}
+    table["Existing, year"] = [base[d] for d in table.index]
+    table.index.name = "kWh"
+    st.dataframe(table.map(lambda v: f"{v:,.0f}"), width="stretch")
+    st.caption("Used directly: PV output taken by the loads as it is made. Into the battery: PV energy charged "
+               "(DC bus side). Curtailed and clipped energy are counted on the module side. Conversion losses "
+               "are not shown.")

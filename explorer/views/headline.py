@@ -1,0 +1,49 @@
+"""Headline figures: the chosen option against the existing system, which is always shown beside it."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from core.figures import Headline, fmt_value
+
+
+def _negligible(h: Headline) -> bool:
+    return h.delta is not None and abs(h.delta) < (0.05 if h.unit in ("%", "years") else 0.5)
+
+
+def _alarm(h: Headline) -> bool:
+    return h.alarm_when_nonzero and h.value is not None and h.value >= 0.5
+
+
+def _card(h: Headline) -> None:
+    with st.container(border=True):
+        quiet = h.delta is None or _negligible(h)
+        delta = None if quiet else fmt_value(h.delta, h.unit, signed=True)
+        colour = "normal" if h.higher_is_better else "inverse"
+        label = f":red[**{h.label}**]" if _alarm(h) else h.label
+        st.metric(label, fmt_value(h.value, h.unit), delta=delta, delta_color=colour, help=h.help or None)
+        same = " (no change)" if h.delta is not None and _negligible(h) else ""
+        if _alarm(h):
+            st.markdown(f":red-background[not allowed here] existing: {fmt_value(h.baseline, h.unit)}")
+        else:
+            st.caption(f"existing system: {fmt_value(h.baseline, h.unit)}{same}")
+
+
+def _line(h: Headline) -> None:
+    delta = "" if h.delta is None or _negligible(h) else f" ({fmt_value(h.delta, h.unit, signed=True)})"
+    st.markdown(f"**{h.label}**  \n{fmt_value(h.value, h.unit)}{delta}", help=h.help or None)
+    st.caption(f"existing system: {fmt_value(h.baseline, h.unit)}")
+
+
+def render(main: list[Headline], more: list[Headline]) -> None:
+    """Eight cards in two rows of four, then the remaining figures on one line."""
+    cards = [*main, *more][:8]
+    rest = [*main, *more][8:]
+    for row in (cards[:4], cards[4:8]):
+        for col, h in zip(st.columns(4), row, strict=False):
+            with col:
+                _card(h)
+    if rest:
+        for col, h in zip(st.columns(len(rest)), rest, strict=True):
+            with col:
+                _line(h)

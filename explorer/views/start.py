@@ -1,0 +1,89 @@
+"""Start: pick a sample site or load your own scenario file (with the data files it names)."""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass
+from pathlib import Path
+
+import streamlit as st
+
+from core.errors import InputError
+from core.scenario import Scenario, load_scenario
+from explorer import state
+
+SCENARIO_TYPES = ["toml", "csv", "epw", "tm2", "txt"]
+
+
+@dataclass(frozen=True)
+class Source:
+    scenario: Scenario
+    identity: str  # changes when another scenario is chosen: the controls then reset to its values
+    option_hint: str | None = None
+
+
+def _sample_choices(root: Path, env_path: str | None) -> tuple[dict[str, Path], str | None]:
+    sites = state.sample_sites(root)
+    default = None
+    if env_path:
+        wanted = Path(env_path).resolve()
+        for name, path in sites.items():
+            if path.resolve() == wanted:
+                default = name
+        if default is None and wanted.is_file():
+            default = f"{wanted.parent.name} (from SECONDROOF_SCENARIO)"
+            sites = {default: wanted, **sites}
+    return sites, default
+
+
+def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | None:
+    """The start controls (in the sidebar); returns the chosen scenario, or None with a message shown."""
+    st.header("Site")
+    mode = st.radio("Scenario", ["Sample site", "My own scenario file"], key="start_mode", horizontal=True,
+                    label_visibility="collapsed")
+    if mode == "Sample site":
+        sites, default = _sample_choices(root, env_path)
+        if not sites:
+            st.error(f"No sample sites found under {root}: each needs a folder with a scenario.toml.")
+            return None
+        names = list(sites)
+        name = st.selectbox("Sample site", names, index=names.index(default) if default in names else 0,
+                            key="sample_site", help="every folder under sample_sites/ that holds a scenario.toml")
+        path = sites[name]
+        try:
+            sc = load_scenario(path)
+        except InputError as exc:
+            st.error(str(exc))
+            return None
+        return Source(sc, identity=f"sample:{path.resolve()}")
+
+    files = st.file_uploader(
+        "Scenario file (.toml) and the data files it names", type=SCENARIO_TYPES, accept_multiple_files=True,
+        key="own_files", help="Upload them together: paths in the scenario are looked up among these files only. "
+        f"Up to {state.MAX_UPLOAD_BYTES // 1_000_000} MB per file.")
+    if not files:
+        st.info("Upload a scenario file (.toml) together with its weather and load files, "
+                "or choose a sample site.")
+        return None
+    folder = upload_folder / "scenario"
+    folder.mkdir(parents=True, exist_ok=True)
+    digest = hashlib.sha256()
+    try:
+        for f in files:
+            data = f.getvalue()
+            state.save_upload(folder, f.name, data)
+            digest.update(f.name.encode() + data)
+    except InputError as exc:
+        st.error(str(exc))
+        return None
+    tomls = [f.name for f in files if f.name.lower().endswith(".toml")]
+    if not tomls:
+        st.info("Add the scenario file itself (.toml) to the upload.")
+        return None
+    name = tomls[0] if len(tomls) == 1 else st.selectbox("Scenario file", tomls, key="own_toml")
+    try:
+        sc, hint = state.read_upload_scenario(folder, name)
+    except InputError as exc:
+        st.error(str(exc))
+        return None
+    return Source(sc, identity=f"upload:{name}:{digest.hexdigest()[:16]}", option_hint=hint)
