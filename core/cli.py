@@ -98,9 +98,152 @@ def _cmd_inspect_load(args) -> int:
     return EXIT_OK
 
 
+def _layout_from_args(sc, args):
+    from core.options import Layout, layout_of
+
+    base = layout_of(sc)
+    count = base.count if args.count is None else args.count
+    tilt = base.tilt_deg if args.tilt is None else args.tilt
+    azimuth = base.azimuth_deg if args.azimuth is None else args.azimuth
+    if count < 0:
+        raise InputError(f"--count {count} is negative", where="command line", hint="give a panel count of 0 or more")
+    if not 0.0 <= tilt <= 90.0:
+        raise InputError(f"--tilt {tilt:g} is outside 0…90", where="command line", hint="degrees from horizontal")
+    if not 0.0 <= azimuth <= 360.0:
+        raise InputError(f"--azimuth {azimuth:g} is outside 0…360", where="command line",
+                         hint="degrees clockwise from north: 180 = south, 270 = west")
+    return Layout(int(count), float(tilt), float(azimuth))
+
+
+def format_comparison(comparison: dict) -> str:
+    """The options side by side (kWh a year without decimals, money without decimals) and the verdict."""
+    import textwrap
+
+    short = {"baseline": "Existing", "ac_backed_up": "AC backed-up", "ac_grid": "AC grid side", "dc": "DC-coupled"}
+    opts = comparison["options"]
+    keys = [k for k in ("baseline", "ac_backed_up", "ac_grid", "dc") if k in opts]
+    cur = comparison["currency"]
+    rows = [
+        ("Loads get from PV, added", lambda o: o["delta"]["to_loads_added_kwh"], "kWh"),
+        ("Grid import saved", lambda o: o["delta"]["grid_import_saved_kwh"], "kWh"),
+        ("Self-consumed PV added", lambda o: o["delta"]["self_consumed_added_kwh"], "kWh"),
+        ("New panels' potential", lambda o: o["delta"]["expansion_potential_kwh"], "kWh"),
+        ("Curtailed added (DC)", lambda o: o["delta"]["curtailed_dc_added_kwh"], "kWh"),
+        ("Curtailed added (AC)", lambda o: o["delta"]["curtailed_ac_added_kwh"], "kWh"),
+        ("Clipped added", lambda o: o["delta"]["clipped_added_kwh"], "kWh"),
+        ("Battery discharge added", lambda o: o["delta"]["battery_discharge_added_kwh"], "kWh"),
+        ("Conversion losses added", lambda o: o["delta"]["conversion_losses_added_kwh"], "kWh"),
+        ("Unserved in outages added", lambda o: o["delta"]["unserved_added_kwh"], "kWh"),
+        ("Uncontrolled export", lambda o: o["delta"]["exported_uncontrolled_kwh"], "kWh"),
+        ("  in hours", lambda o: o["delta"]["exported_uncontrolled_hours"], "h"),
+        ("Grid import", lambda o: o["simulate"]["energy_kwh"]["grid_import"], "kWh"),
+        ("Investment", lambda o: o["economics"] and o["economics"]["investment"], cur),
+        ("First-year saving", lambda o: o["economics"] and o["economics"]["annual_saving"], cur),
+        ("Simple payback", lambda o: o["economics"] and o["economics"]["simple_payback_years"], "years"),
+        ("Discounted payback", lambda o: o["economics"] and o["economics"]["discounted_payback_years"], "years"),
+        ("NPV", lambda o: o["economics"] and o["economics"]["npv"], cur),
+        ("IRR", lambda o: o["economics"] and o["economics"]["irr"], "%"),
+    ]
+    width = max(len(r[0]) + len(r[2]) + 3 for r in rows)
+    col = 14
+    lines = [f"{'':<{width}}" + "".join(f"{short[k]:>{col}}" for k in keys)]
+    for name, get, unit in rows:
+        cells = []
+        for k in keys:
+            v = get(opts[k])
+            if v is None or (k == "baseline" and name != "Grid import"):
+                cells.append(f"{'—':>{col}}")
+            elif unit == "%":
+                cells.append(f"{v * 100:>{col - 2}.1f} %")
+            elif unit == "years":
+                cells.append(f"{v:>{col}.1f}")
+            else:
+                cells.append(f"{0.0 if abs(v) < 0.5 else v:>{col}.0f}")
+        lines.append(f"{name + ' (' + unit + ')':<{width}}" + "".join(cells))
+    lines.append("")
+    for reason in comparison["verdict"]["reasons"] or [comparison["verdict"]["text"]]:
+        lines += textwrap.wrap(reason, width=100, initial_indent="- ", subsequent_indent="  ")
+    return "\n".join(lines)
+
+
+def _cmd_compare(args) -> int:
+    from core.compare import compare
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    if sc.expansion is None:
+        raise InputError("the scenario has no [expansion] section", file=args.scenario, where="expansion",
+                         hint="add [expansion] with module, count, tilt_deg, azimuth_deg and a microinverter "
+                              "and/or a controller")
+    layout = _layout_from_args(sc, args)
+    progress = stderr_progress("compare") if sys.stderr.isatty() else None
+    out = compare(sc, layout, progress=progress).to_dict()
+    if args.json:
+        print(json.dumps(out, indent=2))
+    else:
+        print(f"{sc.name}: {layout.count} panels at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
+        print(format_comparison(out))
+    return EXIT_OK
+
+
+def _cmd_check(args) -> int:
+    from core.checks import CAUTION_ESTIMATE, check_options
+    from core.compare import compare
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    progress = stderr_progress("check") if sys.stderr.isatty() else None
+    sims = None
+    if sc.expansion is not None:
+        comparison = compare(sc, progress=progress)
+        sims = {k: v.simulation for k, v in comparison.options.items()}
+    checks = [c for group in check_options(sc, sims=sims).values() for c in group]
+    if args.json:
+        print(json.dumps([c.to_dict() for c in checks], indent=2))
+        return EXIT_OK
+    from core.options import OPTION_LABELS
+
+    print(f"{sc.name}: design checks\n")
+    marks = {"pass": "ok  ", "warn": "WARN", "fail": "FAIL"}
+    current = None
+    for c in checks:
+        if c.option != current:
+            current = c.option
+            print(f"-- {OPTION_LABELS.get(c.option, c.option)}" + (" (what the expansion changes)"
+                                                                  if c.option != "baseline" else ""))
+        print(f"[{marks[c.status]}] {c.id}: {c.sentence}\n        source: {c.source}")
+    cautions = list(dict.fromkeys(c.caution for c in checks if c.caution and c.status != "pass"))
+    print("\nCautions:")
+    for text in [*cautions, CAUTION_ESTIMATE]:
+        print(f"  - {text}")
+    return EXIT_OK
+
+
+def _cmd_spacing(args) -> int:
+    from core.checks.spacing import min_row_gap, parse_window
+
+    window = parse_window(args.window)
+    gap = min_row_gap(args.latitude, args.tilt, args.length, azimuth_deg=args.azimuth, window_h=window)
+    if args.json:
+        print(json.dumps(gap.to_dict(), indent=2))
+    else:
+        print(f"Rows of {gap.length_m:g} m tilted {gap.tilt_deg:g}° facing {gap.azimuth_deg:g}° at latitude "
+              f"{gap.latitude:g}°:\n"
+              f"  clear gap between rows  {gap.gap_m:.2f} m\n"
+              f"  pitch (row to row)      {gap.pitch_m:.2f} m\n"
+              f"unshaded on the winter solstice from {window[0]:g} to {window[1]:g} h solar time; the longest shadow "
+              f"falls at {gap.worst_solar_hour:.2f} h (sun {gap.sun_elevation_deg:.1f}° high).\n"
+              "Ballast and roof loads need a structural check.")
+    return EXIT_OK
+
+
 _EPILOG = {
     "simulate": "example:\n  python -m core simulate sample_sites/maple_hollow/scenario.toml --json",
     "inspect-load": "example:\n  python -m core inspect-load meter.csv --timezone Europe/Berlin --json",
+    "compare": "example:\n  python -m core compare sample_sites/maple_hollow/scenario.toml --count 4 --tilt 20 "
+               "--azimuth 255 --json",
+    "check": "example:\n  python -m core check sample_sites/maple_hollow/scenario.toml",
+    "spacing": "example:\n  python -m core spacing --latitude 41 --tilt 10 --length 1.7 --window 10-14 --json",
 }
 
 
@@ -128,6 +271,27 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--unit", help="W, kW, Wh, kWh or kWh_register (default: decided from the file)")
     p.add_argument("--column", help="the column to read (default: found by header)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+
+    p = add("compare", "compare the existing system with the expansion AC-coupled (either side) and DC-coupled",
+            _cmd_compare)
+    p.add_argument("scenario", help="scenario file (TOML) with an [expansion] section")
+    p.add_argument("--count", type=int, help="number of new panels (default: the scenario's)")
+    p.add_argument("--tilt", type=float, help="tilt of the new panels, degrees (default: the scenario's)")
+    p.add_argument("--azimuth", type=float, help="azimuth of the new panels, degrees, 180 = south (default: the "
+                   "scenario's)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+
+    p = add("check", "design checks with cautions for the existing system and each expansion option", _cmd_check)
+    p.add_argument("scenario", help="scenario file (TOML)")
+    p.add_argument("--json", action="store_true", help="print a JSON list of checks")
+
+    p = add("spacing", "clear gap between tilted rows for no shading on the winter solstice", _cmd_spacing)
+    p.add_argument("--latitude", type=float, required=True, help="degrees north (negative south)")
+    p.add_argument("--tilt", type=float, required=True, help="row tilt, degrees from horizontal")
+    p.add_argument("--length", type=float, required=True, help="row slant length up the tilt, m (e.g. 1.7)")
+    p.add_argument("--azimuth", type=float, help="way the rows face, degrees (default: towards the equator)")
+    p.add_argument("--window", default="10-14", help="design window in solar hours (default 10-14)")
+    p.add_argument("--json", action="store_true", help="print one JSON object (gap_m, pitch_m, …)")
 
     return parser
 
