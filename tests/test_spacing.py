@@ -118,3 +118,25 @@ def test_bad_input_is_named():
         min_row_gap(75.0, 20.0, 1.7)
     with pytest.raises(InputError, match="length"):
         min_row_gap(41.0, 10.0, 0.0)
+
+
+def test_spacing_check_on_an_array_with_a_row_pitch():
+    # The expansion racked in rows on a flat roof: a pitch below the rule warns, a pitch above it passes.
+    import dataclasses
+
+    from expansion_cases import hand_scenario, synthetic_site
+
+    from core.checks import run_checks
+    from core.options import with_option
+    from core.simulate import simulate
+
+    site = synthetic_site(days=1)
+    rule = min_row_gap(40.0, 20.0, 1.7, azimuth_deg=240.0)
+    for pitch, expected in ((rule.depth_m + 0.8 * rule.gap_m, "warn"), (rule.pitch_m + 0.05, "pass")):
+        sc = hand_scenario()
+        sc = dataclasses.replace(sc, expansion=dataclasses.replace(sc.expansion, row_pitch_m=pitch, mount="rack"))
+        sc = with_option(sc, "ac_backed_up")
+        [c] = [c for c in run_checks(sc, simulate(sc, site)) if c.id == "spacing.rows"]
+        assert c.status == expected
+        assert c.value == approx(pitch - rule.depth_m, abs=1e-3) and c.limit == approx(rule.gap_m, abs=1e-3)
+        assert c.caution and "structural" in c.caution
