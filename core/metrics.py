@@ -19,6 +19,7 @@ ENERGY_KEYS = (
     "curtailed", "curtailed_dc", "curtailed_ac", "clipped", "exported", "exported_uncontrolled", "grid_import",
     "grid_import_standing", "battery_charge", "battery_discharge", "losses", "conversion_losses",
     "battery_losses", "stored_change", "balance_error", "pv_direct", "pv_to_battery", "ac_direct",
+    "unserved_backed_up",
 )
 
 #: Columns of the per-step table that the figures need (W unless named otherwise).
@@ -33,6 +34,8 @@ def derived_columns(steps: pd.DataFrame, *, initial_wh: float, dt_h: float) -> p
     d["load"] = s["load_backed_w"] + s["load_grid_w"]
     d["load_served"] = s["load_served_w"]
     d["unserved"] = s["unserved_w"]
+    # Grid-only loads are dropped in every outage by design; the backed-up part is what ride-through is about.
+    d["unserved_backed_up"] = np.maximum(s["unserved_w"] - s["load_grid_w"] * (~s["grid_up"].astype(bool)), 0.0)
     d["pv_potential_dc"] = s["pv_potential_dc_w"]
     d["pv_potential_ac"] = s["pv_potential_ac_w"]
     d["pv_potential"] = d["pv_potential_dc"] + d["pv_potential_ac"]
@@ -112,6 +115,7 @@ def summarise(steps: pd.DataFrame, *, dt_h: float, initial_wh: float, usable_wh:
         "export_uncontrolled": float((steps["export_uncontrolled_w"] > 1e-6).sum() * dt_h),
         "outage": float((~up).sum() * dt_h),
         "unserved": float((steps["unserved_w"] > 1e-6).sum() * dt_h),
+        "unserved_backed_up": float((d["unserved_backed_up"] > 1e-6).sum() * dt_h),
         "curtailment": float((d["curtailed"] > 1e-6).sum() * dt_h),
     }
     soc_pct = steps["soc_wh"].to_numpy() / usable_wh * 100.0 if usable_wh > 0 else np.zeros(len(steps))

@@ -12,10 +12,8 @@ from core.timebase import NOMINAL_YEAR
 def grid_up_mask(index: pd.DatetimeIndex, intervals: list[tuple[pd.Timestamp, pd.Timestamp]]) -> np.ndarray:
     """True where the grid is up: a step is down when its start lies inside any ``[start, end)`` interval."""
     up = np.ones(len(index), dtype=bool)
-    times = index.asi8
     for start, end in intervals:
-        lo = np.searchsorted(times, start.value, side="left")
-        hi = np.searchsorted(times, end.value, side="left")
+        lo, hi = index.searchsorted(start, side="left"), index.searchsorted(end, side="left")
         up[lo:hi] = False
     return up
 
@@ -67,5 +65,5 @@ def random_outages(index: pd.DatetimeIndex, *, per_year: float, mean_hours: floa
     year_s = (index[-1] - index[0]).total_seconds() + (index[1] - index[0]).total_seconds()
     starts = np.sort(rng.uniform(0.0, year_s, count))
     hours = rng.exponential(mean_hours, count)
-    return [(index[0] + pd.Timedelta(seconds=float(s)), index[0] + pd.Timedelta(seconds=float(s + h * 3600)))
+    return [(index[0] + pd.Timedelta(seconds=round(float(s))), index[0] + pd.Timedelta(seconds=round(float(s + h * 3600))))
             for s, h in zip(starts, hours, strict=True)]
