@@ -219,3 +219,13 @@ def test_summary_is_json_ready_with_monthly_base_load(tmp_path):
     assert all(b is None for b in base[3:11])
     # The invented floor is 200 W; the hump adds a little even at night in local time, never less.
     assert 200.0 <= base[0] < 260.0
+
+
+def test_progress_is_reported_in_order(tmp_path):
+    times = utc_range(datetime(2024, 6, 1, tzinfo=UTC), datetime(2024, 6, 2, tzinfo=UTC), 900)
+    path = tmp_path / "day.csv"
+    path.write_text("time,power_w\n" + "".join(f"{t:%Y-%m-%dT%H:%M}Z,300\n" for t in times))
+    seen: list[float] = []
+    read_load_csv(path, progress=lambda fraction, stage: seen.append(fraction))
+    assert seen[0] == 0.0 and seen[-1] == 1.0
+    assert seen == sorted(seen)

@@ -3,16 +3,16 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, fields
 from typing import Any
 
 
-def _plain(value: Any, digits: int | None = None) -> Any:
+def json_ready(value: Any, digits: int | None = None) -> Any:
     """JSON-ready: tuples to lists, NaN to None, numpy scalars to Python numbers, optional rounding."""
     if isinstance(value, dict):
-        return {str(k): _plain(v, digits) for k, v in value.items()}
+        return {str(k): json_ready(v, digits) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [_plain(v, digits) for v in value]
+        return [json_ready(v, digits) for v in value]
     if hasattr(value, "item") and not isinstance(value, (str, bytes)):
         value = value.item()
     if isinstance(value, float):
@@ -36,8 +36,9 @@ class LoadQuality:
     (filled and missing intervals excluded). ``gaps_filled`` counts runs of missing intervals filled (short
     gaps, see :data:`core.loads.read.MAX_GAP_FILL_S`); ``filled_intervals`` the intervals in them.
     ``energy_kwh`` is the energy of the imported series including filled intervals. Rows are numbered as
-    lines of the file, from 1. ``base_load_w`` holds 12 monthly values (all hours), None where a month has
-    too little data.
+    lines of the file, from 1. ``base_load_w`` holds 12 monthly values (W, all hours; see
+    :func:`core.loads.base_load.base_load_w`), None where a month has too little data; ``base_load_day_w``
+    and ``base_load_night_w`` split them by day and night.
     """
     span_days: float
     coverage_pct: float
@@ -49,7 +50,7 @@ class LoadQuality:
     rows_rejected: int
     rejected_reasons: dict[str, int]
     warnings: tuple[str, ...]
-    base_load_w: tuple[float | None, ...] | None
+    base_load_w: tuple[float | None, ...]
     file: str = ""
     start_utc: str = ""
     end_utc: str = ""
@@ -73,19 +74,12 @@ class LoadQuality:
     longest_gap_h: float = 0.0
     mean_power_w: float = math.nan
     peak_power_w: float = math.nan
-    base_load_day_w: tuple[float | None, ...] | None = None
-    base_load_night_w: tuple[float | None, ...] | None = None
+    base_load_day_w: tuple[float | None, ...] = ()
+    base_load_night_w: tuple[float | None, ...] = ()
     base_load_method: str = ""
     max_gap_fill_s: int = 7200
     label: str = "start"
-    extra: dict[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict (lists, None for missing values, rounded for reading)."""
-        out: dict[str, Any] = {}
-        for f in fields(self):
-            if f.name == "extra":
-                continue
-            out[f.name] = _plain(getattr(self, f.name), _DIGITS.get(f.name))
-        out.update(_plain(self.extra))
-        return out
+        return {f.name: json_ready(getattr(self, f.name), _DIGITS.get(f.name)) for f in fields(self)}

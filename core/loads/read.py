@@ -28,6 +28,7 @@ from __future__ import annotations
 import difflib
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
 from os import PathLike
 from pathlib import Path
@@ -70,6 +71,13 @@ _CONSUMER_WORDS = ("load", "consumption", "house", "home", "usage", "demand", "i
                    "consommation", "consumo")
 _LOAD_WORDS = ("power", "energy", "load", "consumption", "usage", "demand", "import", "leistung",
                "verbrauch", "consommation", "puissance", "consumo", "kwh", "kw", "watt", "meter", "register")
+
+
+Progress = Callable[[float, str], None]
+
+
+def _no_progress(fraction: float, stage: str) -> None:
+    """Progress sink when the caller wants none."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -126,7 +134,7 @@ class _Rows:
 def read_load_csv(path: str | PathLike[str], *, column: str | None = None, unit: str | None = None,
                   timezone: str | None = None, label: str = "start", max_gap_fill_s: int = MAX_GAP_FILL_S,
                   max_power_w: float = MAX_POWER_W, latitude: float | None = None,
-                  longitude: float | None = None) -> MeasuredLoad:
+                  longitude: float | None = None, progress: Progress | None = None) -> MeasuredLoad:
     """Read a load CSV (see the module docstring for what is accepted and how it is cleaned).
 
     ``unit``: "W", "kW" (mean power), "Wh", "kWh" (energy per interval), "kWh_register" or "Wh_register"
@@ -134,14 +142,15 @@ def read_load_csv(path: str | PathLike[str], *, column: str | None = None, unit:
     ``quality.unit_reason``). ``timezone``: IANA name of the clock in which naive timestamps are written
     (None: taken as UTC, with a warning). ``label``: "start" or "end" — whether a row's timestamp starts or
     ends its interval (ignored for registers). ``latitude``/``longitude`` only refine the day/night split of
-    the base load in the summary. Every bad input raises :class:`core.errors.InputError` naming the file and
-    the row or column.
+    the base load in the summary. ``progress(fraction, stage)`` is called as reading advances (for a progress
+    bar on long files). Every bad input raises :class:`core.errors.InputError` naming the file and the row or
+    column.
     """
     file = str(path)
     try:
         return _read(Path(path), file, column=column, unit=unit, timezone=timezone, label=label,
                      max_gap_fill_s=max_gap_fill_s, max_power_w=max_power_w, latitude=latitude,
-                     longitude=longitude)
+                     longitude=longitude, progress=progress or _no_progress)
     except InputError as exc:
         if exc.file is None:
             raise InputError(exc.message, file=file, where=exc.where, hint=exc.hint) from exc
@@ -149,8 +158,8 @@ def read_load_csv(path: str | PathLike[str], *, column: str | None = None, unit:
 
 
 def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezone: str | None, label: str,
-          max_gap_fill_s: int, max_power_w: float, latitude: float | None, longitude: float | None
-          ) -> MeasuredLoad:
+          max_gap_fill_s: int, max_power_w: float, latitude: float | None, longitude: float | None,
+          progress: Progress) -> MeasuredLoad:
     if unit is not None:
         unit = normalise_unit(unit)
     if timezone is not None:
@@ -158,8 +167,11 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     if label not in ("start", "end"):
         raise InputError(f"label must be 'start' or 'end', not {label!r}", where="label",
                          hint="'start' when a row's timestamp opens its interval, 'end' when it closes it")
+    progress(0.0, "reading the file")
     decoded = read_text(path)
+    progress(0.1, "finding the table")
     table = find_table(decoded.text, file)
+    progress(0.4, "reading timestamps and values")
     rows = table.rows
     time_columns = find_time_columns(rows, table.names, file)
     value_column, column_warnings = _choose_column(table, column, time_columns, file)
@@ -194,6 +206,7 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
                         "exist; if the logger keeps standard time all year, give a fixed-offset zone instead "
                         "(e.g. 'Etc/GMT-1' is UTC+01:00)")
 
+    progress(0.7, "cleaning rows")
     t = times.utc_s
     v = numbers.values
     order = _time_order(t, book, lines, time_label, warnings)
@@ -232,6 +245,7 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         raise InputError(f"{cells:.0f} intervals of {step} s are too many to hold", file=file,
                          where=f"column {time_label}",
                          hint="aggregate the readings to a coarser interval (e.g. 1 min) first")
+    progress(0.8, "placing readings on a regular grid")
     phase = detect_phase(t[order], step)
     grid = to_grid(start, end, energy, stretched, step, phase)
     power, measured, stretched_cells = grid.power_w, grid.measured, grid.stretched
@@ -306,12 +320,13 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         max_gap_fill_s=int(max_gap_fill_s),
         label=label,
     )
+    progress(1.0, "done")
     return MeasuredLoad(power_w=series, quality=quality)
 
 
-def _monthly(values: pd.Series) -> tuple[float | None, ...] | None:
-    out = tuple(None if not np.isfinite(x) else float(x) for x in values.to_numpy(dtype=float))
-    return None if all(x is None for x in out) else out
+def _monthly(values: pd.Series) -> tuple[float | None, ...]:
+    """Twelve monthly values, None where a month has too little data."""
+    return tuple(None if not np.isfinite(x) else float(x) for x in values.to_numpy(dtype=float))
 
 
 def _runs(mask: np.ndarray) -> int:

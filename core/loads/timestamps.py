@@ -8,6 +8,7 @@ exist and their rows are rejected. Timestamps with a UTC offset or ``Z`` are exa
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
@@ -125,14 +126,9 @@ def _classify(sample: pd.Series) -> tuple[str, list[tuple[str, float]]]:
     return ("datetime", scores) if scores and scores[0][1] >= 0.5 else ("none", [])
 
 
-def find_time_columns(rows: pd.DataFrame, names: tuple[str, ...], file: str,
-                      exclude: str | None = None) -> TimeColumns:
+def find_time_columns(rows: pd.DataFrame, names: tuple[str, ...], file: str) -> TimeColumns:
     """The column holding date and time, or a date column followed by a time-of-day column, or Unix time."""
-    kinds: dict[str, str] = {}
-    for name in names:
-        if name == exclude:
-            continue
-        kinds[name] = _classify(_sample(_strings(rows[name])))[0]
+    kinds = {name: _classify(_sample(_strings(rows[name])))[0] for name in names}
     full = [n for n in kinds if kinds[n] == "datetime"]
     if full:
         named = [n for n in full if any(w in n.lower() for w in _TIME_WORDS)]
@@ -186,8 +182,9 @@ def parse_times(rows: pd.DataFrame, columns: TimeColumns, timezone: str | None, 
         normalised = (text.str.replace(r" *(UTC|GMT)$", "Z", regex=True)
                       .str.replace(r" +([+-]\d{2}(:?\d{2})?)$", r"\1", regex=True))
         parsed = pd.to_datetime(normalised, format="ISO8601", utc=True, errors="coerce")
-        offsets = sorted(set(text[aware].str.extract(r"(Z|UTC|GMT|[+-]\d{2}(?::?\d{2})?)$")[0].dropna()
-                             .unique().tolist()))
+        tails = text[aware].str.slice(-6).unique()  # few distinct endings: search them, not every row
+        found = (re.search(r"(Z|UTC|GMT|[+-]\d{2}(?::?\d{2})?)$", str(tail)) for tail in tails)
+        offsets = sorted({m.group(1) for m in found if m})
         shown = ", ".join(offsets[:4]) + (" …" if len(offsets) > 4 else "")
         handling = f"timestamps carry UTC offsets ({shown}); converted to UTC"
         fmt = "ISO8601 with offset"

@@ -47,7 +47,7 @@ import numpy as np
 import pandas as pd
 
 from core.errors import InputError
-from core.loads.quality import _plain
+from core.loads.quality import json_ready
 from core.timebase import NOMINAL_YEAR, nominal_index
 
 MIN_DAYS = 21
@@ -92,7 +92,7 @@ class YearBuildReport:
     method: str = METHOD_TEXT
 
     def to_dict(self) -> dict[str, Any]:
-        return {f.name: _plain(getattr(self, f.name)) for f in fields(self)}
+        return {f.name: json_ready(getattr(self, f.name)) for f in fields(self)}
 
 
 def _bills(monthly_kwh: Sequence[float | None] | None) -> list[float | None]:
