@@ -162,7 +162,7 @@ def svg_lines(frame: pd.DataFrame, colours: dict[str, str], *, title: str, subti
     for h in range(0, 25, 3):
         body.append(f'<text x="{x_of(h):.1f}" y="{bottom + 14}" text-anchor="middle">{h:02d}:00</text>')
     body.append(f'<text x="{(_M["left"] + _W - _M["right"]) / 2}" y="{bottom + 30}" text-anchor="middle">'
-                "Time of day (local standard time)</text>")
+                "Time of day (h, local standard time)</text>")
     legend = []
     for name in [s for s in colours if s in set(frame["series"])]:
         part = frame[frame["series"] == name].sort_values("hour")
@@ -203,7 +203,7 @@ def svg_heatmap(frame: pd.DataFrame, *, title: str, subtitle: str) -> str:
     for h in range(0, 24, 3):
         body.append(f'<text x="{_M["left"] + (h + 0.5) * cw:.1f}" y="{bottom + 14}" text-anchor="middle">{h:02d}</text>')
     body.append(f'<text x="{(_M["left"] + _W - _M["right"]) / 2}" y="{bottom + 30}" text-anchor="middle">'
-                "Hour of day (local standard time)</text>")
+                "Hour of day (h, local standard time)</text>")
     legend = [(f"{-limit:,.0f} W: under the base load", _diverging(-limit, limit), False),
               ("0 W", _diverging(0.0, limit), False),
               (f"+{limit:,.0f} W: above it", _diverging(limit, limit), False)]

@@ -89,7 +89,7 @@ def surplus_map_chart(frame: pd.DataFrame) -> alt.Chart:
         "Does the AC-coupled output stay under the daytime base load?",
         subtitle="mean AC-coupled output minus the month's daytime base load (W); orange = above it, "
                  "blank = no output")).mark_rect().encode(
-        x=alt.X("hour:O", title="Hour of day (local standard time)", scale=alt.Scale(domain=list(range(24))),
+        x=alt.X("hour:O", title="Hour of day (h, local standard time)", scale=alt.Scale(domain=list(range(24))),
                 axis=alt.Axis(labelAngle=0)),
         y=alt.Y("month_name:N", sort=list(MONTH_NAMES), scale=alt.Scale(domain=list(MONTH_NAMES)), title="Month",
                 axis=alt.Axis(labelOverlap=False)),
@@ -145,14 +145,16 @@ def options_chart(frame: pd.DataFrame) -> alt.Chart:
     ).properties(width=WIDTH, height=HEIGHT)
 
 
-def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "added_kwh",
-                  value_title: str = "Added self-consumed energy (kWh/yr)", flag: str | None = "flag") -> alt.LayerChart:
-    """Panel count × orientation heatmap of ``value``; cells with a non-empty ``flag`` get a marker in words.
+def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "self_consumed_added_kwh",
+                  value_title: str = "Added self-consumed energy (kWh/yr)", flag: str | None = "flag",
+                  current: dict | None = None) -> alt.LayerChart:
+    """Panel count × orientation heatmap of ``value``; cells with a non-empty ``flag`` get its letters.
 
-    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (text such as "curtailed" or "export").
+    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (short text such as "C" or "X").
+    ``current`` ({"count": n, x: v}) frames one cell, the setting in use.
     """
     base = alt.Chart(frame).encode(
-        x=alt.X(f"{x}:O", title=x_title),
+        x=alt.X(f"{x}:O", title=x_title, axis=alt.Axis(labelAngle=0)),
         y=alt.Y("count:O", title="Panels added", sort="descending"))
     tooltip = [alt.Tooltip("count:O", title="Panels added"), alt.Tooltip(f"{x}:O", title=x_title),
                alt.Tooltip(f"{value}:Q", title=value_title, format=",.0f")]
@@ -168,13 +170,18 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "ad
         if len(marked):
             where = dict(x=alt.X(f"{x}:O"), y=alt.Y("count:O", sort="descending"))
             # a white disc under a black letter stays readable on both ends of the colour map
-            layers.append(alt.Chart(marked).mark_circle(size=180, color="white", opacity=0.9).encode(
+            layers.append(alt.Chart(marked).mark_circle(size=320, color="white", opacity=0.9).encode(
                 **where, tooltip=tooltip))
-            layers.append(alt.Chart(marked).mark_text(fontSize=11, fontWeight="bold", color=palette.BLACK).encode(
+            layers.append(alt.Chart(marked).mark_text(fontSize=10, fontWeight="bold", color=palette.BLACK).encode(
                 **where, text=alt.Text(f"{flag}:N"), tooltip=tooltip))
+    if current is not None and current.get(x) in set(frame[x]) and current.get("count") in set(frame["count"]):
+        layers.append(alt.Chart(pd.DataFrame([current])).mark_rect(fill=None, stroke=palette.BLACK,
+                                                                  strokeWidth=2.5).encode(
+            x=alt.X(f"{x}:O"), y=alt.Y("count:O", sort="descending")))
     return alt.layer(*layers, title=alt.Title(
-        f"Added self-consumed energy by panel count and {x_title.split(' (')[0].lower()}",
-        subtitle="kWh per year against the existing system; letters mark C = curtailment, X = uncontrolled export")
+        f"{value_title.split(' (')[0]} by panel count and {x_title.split(' (')[0].lower()}",
+        subtitle=f"{value_title}, against the existing system; letters mark C = curtailment, "
+                 "X = uncontrolled export")
     ).properties(width=WIDTH, height=HEIGHT)
 
 

@@ -55,6 +55,12 @@ def _show_quality(q: dict) -> None:
         st.warning(w)
 
 
+def latlon(latitude: float, longitude: float) -> str:
+    """``36.10° N, 79.95° W``."""
+    return (f"{abs(latitude):.2f}° {'N' if latitude >= 0 else 'S'}, "
+            f"{abs(longitude):.2f}° {'E' if longitude >= 0 else 'W'}")
+
+
 def _weather_summary(w) -> pd.DataFrame:
     d = w.data
     step_h = w.step_s / 3600.0
@@ -69,7 +75,7 @@ def _weather_summary(w) -> pd.DataFrame:
         ("Mean wind speed", f"{d['wind_speed'].mean():.1f} m/s"),
     ]
     if w.latitude is not None and w.longitude is not None:
-        rows.append(("File's own location", f"{w.latitude:.2f}° N, {w.longitude:.2f}° E"))
+        rows.append(("File's own location", latlon(w.latitude, w.longitude)))
     return pd.DataFrame(rows, columns=["Item", "Value"])
 
 

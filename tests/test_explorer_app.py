@@ -1,0 +1,150 @@
+"""The explorer page under Streamlit's AppTest: every sample site, the panel-count and coupling controls, a bad
+upload, and a saved scenario that loads back to the same figures.
+
+Expected directions come from the energy balance of DESIGN.md §5, not from stored results: more AC-coupled
+panels put out more AC-coupled energy, and since the engine never takes away curtailment to make room for
+energy it cannot otherwise place, curtailment does not fall as output rises.
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import pytest
+from streamlit.testing.v1 import AppTest
+
+from explorer import state
+
+ROOT = Path(__file__).resolve().parent.parent
+APP = str(ROOT / "explorer" / "app.py")
+SAMPLES = ROOT / "sample_sites"
+MAPLE = SAMPLES / "maple_hollow" / "scenario.toml"
+TIMEOUT = 240
+
+
+def _app(monkeypatch, scenario: Path = MAPLE) -> AppTest:
+    monkeypatch.setenv("SECONDROOF_SCENARIO", str(scenario))
+    at = AppTest.from_file(APP, default_timeout=TIMEOUT)
+    at.run()
+    return at
+
+
+def _ok(at: AppTest) -> None:
+    assert not at.exception, [e.value for e in at.exception]
+    assert not at.error, [e.value for e in at.error]
+
+
+def _number(text: str) -> float:
+    m = re.search(r"-?[\d,]+(?:\.\d+)?", text)
+    assert m, text
+    return float(m.group(0).replace(",", ""))
+
+
+def _metric(at: AppTest, label: str) -> float:
+    for m in at.metric:
+        if re.sub(r":red\[\*\*(.*)\*\*\]", r"\1", m.label) == label:
+            return _number(m.value)
+    raise AssertionError(f"no metric {label!r}: {[m.label for m in at.metric]}")
+
+
+def _line_figure(at: AppTest, label: str) -> float:
+    """A figure shown as a bold label and a value on the next line (the headline's last row)."""
+    for md in at.markdown:
+        if md.value.startswith(f"**{label}**"):
+            return _number(md.value.split("\n", 1)[1])
+    raise AssertionError(f"no figure {label!r}")
+
+
+def _headline(at: AppTest) -> dict[str, str]:
+    return {m.label: m.value for m in at.metric if m.label not in ("Outages", "Hours without grid")}
+
+
+@pytest.mark.parametrize("site", sorted(state.sample_sites(SAMPLES).items()), ids=lambda s: s[0])
+def test_runs_on_every_sample_site(monkeypatch, site):
+    name, path = site
+    at = _app(monkeypatch, path)
+    _ok(at)
+    assert at.selectbox(key="sample_site").value == name
+    headline = _headline(at)
+    assert "Loads supplied from PV" in headline and headline["Loads supplied from PV"].endswith("kWh")
+    assert headline["Self-sufficiency"].endswith("%")
+    # the safety cautions of DESIGN.md §8 are on the page
+    assert any("licensed electrician" in md.value for md in at.markdown)
+
+
+def test_more_panels_raise_ac_harvest_and_never_lower_curtailment(monkeypatch):
+    at = _app(monkeypatch)
+    _ok(at)
+    at.radio(key="c_option").set_value("ac_backed_up").run()
+    at.slider(key="c_count").set_value(1).run()
+    previous = (_line_figure(at, "AC-coupled PV used"), _metric(at, "Curtailed"))
+    for count in (3, 6):
+        at.slider(key="c_count").set_value(count).run()
+        _ok(at)
+        now = (_line_figure(at, "AC-coupled PV used"), _metric(at, "Curtailed"))
+        assert now[0] > previous[0], (count, previous, now)
+        assert now[1] >= previous[1], (count, previous, now)
+        previous = now
+
+
+def test_switching_coupling_changes_the_figures(monkeypatch):
+    at = _app(monkeypatch)
+    at.radio(key="c_option").set_value("ac_backed_up").run()
+    ac = _headline(at)
+    ac_used = _line_figure(at, "AC-coupled PV used")
+    at.radio(key="c_option").set_value("dc").run()
+    _ok(at)
+    dc = _headline(at)
+    assert dc != ac
+    assert ac_used > 0 and _line_figure(at, "AC-coupled PV used") == 0.0  # DC-coupled panels feed the DC bus
+    # the options tab names the sidebar's choice
+    assert any("*DC-coupled*" in md.value for md in at.markdown)
+
+
+def test_malformed_load_upload_shows_one_error_and_the_page_keeps_working(monkeypatch):
+    at = _app(monkeypatch)
+    before = _headline(at)
+    garbage = b"this is not,a load file\n\x00\x01\x02 nothing here\n"
+    at.file_uploader(key="load_file").set_value(("meter.csv", garbage, "text/csv")).run()
+    assert not at.exception
+    assert len(at.error) == 1 and "meter.csv" in at.error[0].value
+    assert "Traceback" not in at.error[0].value
+    assert _headline(at) == before  # the scenario's own load is still used
+    at.slider(key="c_count").set_value(4).run()  # and the controls still work
+    assert not at.exception and _headline(at) != before
+
+
+def test_saved_scenario_reloads_to_the_same_figures(monkeypatch):
+    at = _app(monkeypatch)
+    at.radio(key="c_option").set_value("dc").run()
+    at.slider(key="c_count").set_value(4).run()
+    at.slider(key="c_tilt").set_value(35).run()
+    at.slider(key="c_battery").set_value(14.5).run()
+    at.checkbox(key="c_limiter").check().run()
+    at.radio(key="c_outages").set_value("random").run()
+    _ok(at)
+    figures = _headline(at)
+    text = at.session_state["scenario_download"]
+    name = at.session_state["scenario_download_name"]
+    assert re.fullmatch(r"maple-hollow_\d{4}-\d{2}-\d{2}\.toml", name)
+    assert "count = 4" in text and "usable_kwh = 14.5" in text
+    folder = MAPLE.parent
+    files = [(name, text.encode("utf-8"), "application/toml")]
+    files += [(p, (folder / p).read_bytes(), "text/csv") for p in ("723170TYA.CSV", "load_backed_up.csv",
+                                                                   "load_grid_only.csv")]
+    at.radio(key="start_mode").set_value("My own scenario file").run()
+    at.file_uploader(key="own_files").set_value(files).run()
+    _ok(at)
+    assert at.radio(key="c_option").value == "dc"
+    assert at.slider(key="c_count").value == 4
+    assert _headline(at) == figures
+
+
+def test_uploaded_scenario_cannot_reach_outside_its_folder(monkeypatch):
+    at = _app(monkeypatch)
+    text = MAPLE.read_text("utf-8").replace('path = "723170TYA.CSV"', 'path = "../../etc/passwd"')
+    at.radio(key="start_mode").set_value("My own scenario file").run()
+    at.file_uploader(key="own_files").set_value([("mine.toml", text.encode(), "application/toml")]).run()
+    assert not at.exception
+    assert at.error and "outside" in at.error[0].value
