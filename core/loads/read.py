@@ -51,6 +51,7 @@ from core.loads.units import (
     decide_unit,
     normalise_unit,
 )
+from core.timebase import standard_offset
 
 MAX_GAP_FILL_S = 7200
 MAX_POWER_W = 1_000_000.0
@@ -203,8 +204,8 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     book.reject(numbers.not_number, "not a number", value_label)
     if times.nonexistent.any():
         warnings.append(f"column {time_label}: clock times inside the skipped spring hour of {timezone} do not "
-                        "exist; if the logger keeps standard time all year, give a fixed-offset zone instead "
-                        "(e.g. 'Etc/GMT-1' is UTC+01:00)")
+                        "exist; if the logger keeps standard time all year, give a fixed-offset zone instead"
+                        f"{_fixed_zone_example(timezone)}")
 
     progress(0.7, "cleaning rows")
     t = times.utc_s
@@ -322,6 +323,15 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     )
     progress(1.0, "done")
     return MeasuredLoad(power_w=series, quality=quality)
+
+
+def _fixed_zone_example(timezone: str) -> str:
+    """' (for this site: 'Etc/GMT-1', i.e. UTC+01:00)' — the IANA fixed-offset zone of its standard time."""
+    offset_h = standard_offset(timezone).utcoffset(None).total_seconds() / 3600.0
+    if offset_h != int(offset_h):
+        return ""
+    name = "Etc/GMT" if offset_h == 0 else f"Etc/GMT{-int(offset_h):+d}"  # Etc/ names invert the sign
+    return f" (for this zone: {name!r}, i.e. UTC{int(offset_h):+03d}:00)"
 
 
 def _monthly(values: pd.Series) -> tuple[float | None, ...]:
