@@ -159,6 +159,8 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
             dc_avail = dc - from_dc
             bat_out += from_b
             dis_room -= from_b
+            # energy drawn for the idle load frees the same room for charging later in the step
+            ch_room = max(0.0, min(ch_max, (usable - e + from_b / eta * dt) / (eta * dt)))
             idle_used = idle
         else:
             dc_avail = dc

@@ -243,3 +243,14 @@ def _check_orientation(tilt_deg: float, azimuth_deg: float) -> None:
             raise InputError(f"{value!r} is not a number", where=key, hint=hint) from None
         if not np.isfinite(number) or not low <= number <= high:
             raise InputError(f"{number!r} is outside {low:g}..{high:g}", where=key, hint=hint)
+
+
+def row_shaded_fraction(zenith_deg, sun_azimuth_deg, *, tilt_deg: float, azimuth_deg: float, length_m: float,
+                        pitch_m: float) -> np.ndarray:
+    """Shaded share of a row's slant length by the row in front, from :func:`pvlib.shading.shaded_fraction1d`
+    (fixed tilt: the rows' axis runs at ``azimuth − 90°``, rotated by the tilt); 0 when the sun is down."""
+    zen = np.asarray(zenith_deg, dtype=float)
+    sf = pvlib.shading.shaded_fraction1d(zen, np.asarray(sun_azimuth_deg, dtype=float),
+                                         axis_azimuth=(azimuth_deg - 90.0) % 360.0, shaded_row_rotation=tilt_deg,
+                                         collector_width=length_m, pitch=pitch_m)
+    return np.where(zen < 90.0, np.nan_to_num(np.asarray(sf, dtype=float), nan=0.0), 0.0)

@@ -33,6 +33,8 @@ class SiteData:
     index: pd.DatetimeIndex
     step_s: int
     timezone: str
+    latitude: float
+    longitude: float
     weather: weather_io.Weather
     geometry: solar.SolarGeometry
     load_backed_w: np.ndarray
@@ -48,12 +50,19 @@ class SiteData:
     def daylight(self) -> np.ndarray:
         return self.geometry.apparent_zenith_deg < 90.0
 
+    @property
+    def key(self) -> tuple:
+        """What tells one site's time base from another's (for caches shared by mistake)."""
+        return (self.latitude, self.longitude, self.timezone, self.step_s, len(self.index), self.weather.source)
+
 
 def site_timezone(sc: Scenario) -> str:
     return sc.site.timezone or weather_io.timezone_for(sc.site.latitude, sc.site.longitude)
 
 
-def _weather(sc: Scenario, tz) -> weather_io.Weather:
+def load_weather(sc: Scenario, tz=None) -> weather_io.Weather:
+    """The scenario's weather on the nominal year in the site's standard time (file or twelve monthly figures)."""
+    tz = tz or standard_offset(site_timezone(sc))
     w = sc.weather
     if w.source == "monthly":
         return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
@@ -87,7 +96,7 @@ def prepare_site(sc: Scenario) -> SiteData:
     """Weather, sun, loads and outages on one time base: the expensive, orientation-free part."""
     timezone = site_timezone(sc)
     tz = standard_offset(timezone)
-    weather = _weather(sc, tz)
+    weather = load_weather(sc, tz)
     step_s = sc.simulation.step_s or weather.step_s
     if step_s < weather.step_s:
         weather = weather_io.interpolate_weather(weather, step_s, latitude=sc.site.latitude,
@@ -107,7 +116,8 @@ def prepare_site(sc: Scenario) -> SiteData:
     if sc.grid.random_outages is not None:
         r = sc.grid.random_outages
         intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed)
-    return SiteData(index=index, step_s=step_s, timezone=timezone, weather=weather, geometry=geometry,
+    return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
+                    longitude=sc.site.longitude, weather=weather, geometry=geometry,
                     load_backed_w=load_b, load_grid_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
                     load_notes={"backed_up": notes_b, "grid_only": notes_g})
 
@@ -123,14 +133,21 @@ class OrientationCache:
 
     def module_output(self, site: SiteData, sc: Scenario, array: Array) -> pv.ModuleOutput:
         m = sc.modules[array.module]
-        key = (dataclasses.astuple(m), array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct,
+        key = (site.key, dataclasses.astuple(m), array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct,
                array.row_pitch_m)
         if key not in self._store:
+            shading = None
+            if array.row_pitch_m is not None:
+                # Rows of one module in portrait: the row in front shades the direct beam (pvlib shaded_fraction1d).
+                shading = pv.row_shaded_fraction(site.geometry.apparent_zenith_deg, site.geometry.azimuth_deg,
+                                                 tilt_deg=array.tilt_deg, azimuth_deg=array.azimuth_deg,
+                                                 length_m=m.length_m, pitch_m=array.row_pitch_m)
             self._store[key] = pv.module_output(
                 site.weather.data, site.geometry, tilt_deg=array.tilt_deg, azimuth_deg=array.azimuth_deg,
                 mount=array.mount, losses_pct=array.losses_pct, pmax_w=m.pmax_w, vmp_v=m.vmp_v, imp_a=m.imp_a,
                 voc_v=m.voc_v, isc_a=m.isc_a, gamma_pmax_pct_per_c=m.gamma_pmax_pct_per_c,
-                beta_voc_pct_per_c=m.beta_voc_pct_per_c, alpha_isc_pct_per_c=m.alpha_isc_pct_per_c)
+                beta_voc_pct_per_c=m.beta_voc_pct_per_c, alpha_isc_pct_per_c=m.alpha_isc_pct_per_c,
+                shading_loss=shading)
         return self._store[key]
 
 

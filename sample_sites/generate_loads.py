@@ -45,9 +45,11 @@ class Household:
 
 
 def household_load(h: Household) -> pd.DataFrame:
-    """Backed-up and grid-only mean power (W) on the household's own time grid, naive local time."""
+    """Backed-up and grid-only mean power (W) on the household's own time grid, in local time."""
     rng = np.random.default_rng(h.seed)
-    index = pd.date_range(h.start, h.end, freq=h.step, inclusive="left")
+    # Real local clock times: the spring-forward hour does not exist, the autumn hour comes twice.
+    index = pd.date_range(pd.Timestamp(h.start, tz=h.timezone), pd.Timestamp(h.end, tz=h.timezone), freq=h.step,
+                          inclusive="left")
     n = len(index)
     hour = index.hour.to_numpy() + index.minute.to_numpy() / 60.0
     doy = index.day_of_year.to_numpy()
@@ -84,8 +86,10 @@ def household_load(h: Household) -> pd.DataFrame:
 def write_load_files(h: Household) -> list[Path]:
     """Write the two channels as the household's 'monitoring export' (one CSV per channel)."""
     table = household_load(h)
+    # The logger was offline during the gaps; the meter itself (and so a register) kept counting.
+    logged = np.ones(len(table), dtype=bool)
     for start, end in h.gaps:
-        table = table[(table.index < pd.Timestamp(start)) | (table.index >= pd.Timestamp(end))]
+        logged &= (table.index < pd.Timestamp(start, tz=h.timezone)) | (table.index >= pd.Timestamp(end, tz=h.timezone))
     step_h = pd.Timedelta(h.step).total_seconds() / 3600.0
     written = []
     for column, name in (("backed_up_w", "load_backed_up.csv"), ("grid_only_w", "load_grid_only.csv")):
@@ -103,7 +107,7 @@ def write_load_files(h: Household) -> list[Path]:
             end = power.index + pd.Timedelta(h.step)
             out = pd.DataFrame({"timestamp": end.strftime("%Y-%m-%d %H:%M"), "register_kwh": register.round(4).to_numpy()})
         path = HERE / h.folder / name
-        out.to_csv(path, index=False, sep=h.separator, decimal=h.decimal)
+        out[logged].to_csv(path, index=False, sep=h.separator, decimal=h.decimal)
         written.append(path)
     return written
 

@@ -154,6 +154,6 @@ def synthetic_site(*, days: int = 4, start: str = "2023-06-10", step_s: int = 36
     def series(x, dtype=float):
         return np.ascontiguousarray(np.broadcast_to(np.asarray(x, dtype=dtype), (n,)))
 
-    return SiteData(index=index, step_s=step_s, timezone="America/Denver", weather=weather, geometry=geometry,
+    return SiteData(index=index, step_s=step_s, timezone="America/Denver", latitude=LATITUDE, longitude=LONGITUDE, weather=weather, geometry=geometry,
                     load_backed_w=series(load_backed_w), load_grid_w=series(load_grid_w),
                     grid_up=series(grid_up, bool))

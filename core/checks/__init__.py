@@ -49,20 +49,9 @@ CAUTIONS = (CAUTION_DC, CAUTION_AC, CAUTION_MICRO, CAUTION_BATTERY, CAUTION_STRU
 
 def weather_temperatures(sc: Scenario) -> np.ndarray:
     """The air temperatures of the scenario's weather (°C per step), read without the rest of the site."""
-    from core import weather as weather_io
-    from core.simulate import site_timezone
-    from core.timebase import standard_offset
+    from core.simulate import load_weather
 
-    tz = standard_offset(site_timezone(sc))
-    w = sc.weather
-    if w.source == "monthly":
-        from core.weather_monthly import monthly_weather
-
-        data = monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
-                               longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
-    else:
-        data = weather_io.read_weather_file(sc.resolve(w.path, "weather.path"), fmt=w.format, tz=tz)
-    return data.data["temp_air"].to_numpy(dtype=float)
+    return load_weather(sc).data["temp_air"].to_numpy(dtype=float)
 
 
 def run_checks(sc: Scenario, sim=None, *, cache=None, option: str = "") -> list[Check]:

@@ -19,10 +19,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import pvlib
 
 from core.checks.common import CAUTION_STRUCTURE, Check
 from core.errors import InputError
+from core.pv import row_shaded_fraction  # noqa: F401 - the physics lives in the PV leaf
 
 #: Obliquity of the ecliptic: the sun's declination at the solstices, degrees (from memory).
 SOLSTICE_DECLINATION_DEG = 23.44
@@ -131,17 +131,6 @@ def min_row_gap(latitude: float, tilt_deg: float, length_m: float, *, azimuth_de
                   worst_solar_hour=float(hours[i]), sun_elevation_deg=float(elevation[i]),
                   sun_azimuth_deg=float(sun_az[i]), latitude=float(latitude), tilt_deg=float(tilt_deg),
                   length_m=float(length_m), azimuth_deg=facing, window_h=(float(start), float(end)))
-
-
-def row_shaded_fraction(zenith_deg, sun_azimuth_deg, *, tilt_deg: float, azimuth_deg: float, length_m: float,
-                        pitch_m: float) -> np.ndarray:
-    """Shaded share of a row's slant length by the row in front, from :func:`pvlib.shading.shaded_fraction1d`
-    (fixed tilt: the rows' axis runs at ``azimuth − 90°``, rotated by the tilt); 0 when the sun is down."""
-    zen = np.asarray(zenith_deg, dtype=float)
-    sf = pvlib.shading.shaded_fraction1d(zen, np.asarray(sun_azimuth_deg, dtype=float),
-                                         axis_azimuth=(azimuth_deg - 90.0) % 360.0, shaded_row_rotation=tilt_deg,
-                                         collector_width=length_m, pitch=pitch_m)
-    return np.where(zen < 90.0, np.nan_to_num(np.asarray(sf, dtype=float), nan=0.0), 0.0)
 
 
 def annual_shading_loss(poa_direct_w_m2, poa_global_w_m2, zenith_deg, sun_azimuth_deg, *, tilt_deg: float,
