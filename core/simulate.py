@@ -20,7 +20,7 @@ import pandas as pd
 from core import conversion, dispatch, metrics, outages, pv, solar
 from core import weather as weather_io
 from core.errors import InputError
-from core.loads import load_year
+from core.loads import build_year, read_load_csv
 from core.scenario import Array, Scenario
 from core.timebase import nominal_index, standard_offset
 from core.weather_monthly import monthly_weather
@@ -72,24 +72,48 @@ def load_weather(sc: Scenario, tz=None) -> weather_io.Weather:
                                         longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
 
 
-def _load(sc: Scenario, path_key: str, column_key: str, monthly_key: str, step_s: int, tz,
-          timezone: str) -> tuple[np.ndarray, dict]:
-    """One load channel on the simulation's time base (zeros when the scenario has none)."""
-    n = len(nominal_index(step_s, tz))
+#: Simulation steps the engine offers (s); a finer source is simulated at the nearest of these not finer than it.
+STEPS_S = (60, 300, 600, 900, 1800, 3600)
+
+
+def _measured(sc: Scenario, path_key: str, column_key: str, timezone: str):
+    """One measured load channel as read from its file (None when the scenario has none)."""
     path = getattr(sc.load, path_key)
-    monthly = getattr(sc.load, monthly_key)
     if path is None:
+        return None
+    return read_load_csv(sc.resolve(path, f"load.{path_key}"), column=getattr(sc.load, column_key), unit=sc.load.unit,
+                         timezone=sc.load.timezone or timezone, latitude=sc.site.latitude, longitude=sc.site.longitude)
+
+
+def _load_year(sc: Scenario, measured, path_key: str, monthly_key: str, step_s: int, tz) -> tuple[np.ndarray, dict]:
+    """One load channel on the simulation's time base: measured (completed by the year builder), a flat profile
+    from monthly totals, or zeros when the scenario has neither."""
+    index = nominal_index(step_s, tz)
+    monthly = getattr(sc.load, monthly_key)
+    if measured is None:
         if monthly is None:
-            return np.zeros(n), {}
-        index = nominal_index(step_s, tz)
+            return np.zeros(len(index)), {}
         hours = index.to_series().groupby(index.month).size() * step_s / 3600.0
         flat = [0.0 if m is None else m * 1000.0 / hours[i + 1] for i, m in enumerate(monthly)]
         return np.asarray(flat)[index.month - 1], {"method": "flat power from monthly totals"}
-    series, quality, report = load_year(sc.resolve(path, f"load.{path_key}"), step_s=step_s, tz=tz,
-                                        timezone_name=sc.load.timezone or timezone,
-                                        column=getattr(sc.load, column_key), unit=sc.load.unit,
-                                        monthly_kwh=monthly)
-    return series.to_numpy(dtype=float), {"quality": quality, "year": report}
+    try:
+        series, report = build_year(measured.power_w, step_s=step_s, tz=tz, monthly_kwh=monthly)
+    except InputError as exc:
+        if exc.file is None:
+            raise InputError(exc.message, file=getattr(sc.load, path_key), where=exc.where, hint=exc.hint) from exc
+        raise
+    return series.to_numpy(dtype=float), {"quality": measured.quality, "year": report}
+
+
+def simulation_step_s(requested_s: int | None, weather_step_s: int, load_steps_s: list[int]) -> int:
+    """The step to simulate at: the scenario's choice; else the finer of weather and load when both are
+    sub-hourly; else the weather's own step (hourly weather with finer load data stays hourly)."""
+    if requested_s:
+        return int(requested_s)
+    if weather_step_s < 3600 and load_steps_s:
+        finest = min([weather_step_s, *load_steps_s])
+        return max([s for s in STEPS_S if s <= finest] or [STEPS_S[0]])
+    return weather_step_s
 
 
 def prepare_site(sc: Scenario) -> SiteData:
@@ -97,19 +121,19 @@ def prepare_site(sc: Scenario) -> SiteData:
     timezone = site_timezone(sc)
     tz = standard_offset(timezone)
     weather = load_weather(sc, tz)
-    step_s = sc.simulation.step_s or weather.step_s
-    if step_s < weather.step_s:
+    measured_b = _measured(sc, "path", "column", timezone)
+    measured_g = _measured(sc, "grid_only_path", "grid_only_column", timezone)
+    load_steps = [m.quality.interval_s for m in (measured_b, measured_g) if m is not None]
+    step_s = simulation_step_s(sc.simulation.step_s, weather.step_s, load_steps)
+    if step_s != weather.step_s:
         weather = weather_io.interpolate_weather(weather, step_s, latitude=sc.site.latitude,
                                                  longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
-    elif step_s != weather.step_s:
-        raise InputError(f"a step of {step_s} s is coarser than the weather's {weather.step_s} s",
-                         where="simulation.step_s", hint="leave it out to use the weather's own step")
     index = weather.data.index
     geometry = solar.solar_geometry(index, sc.site.latitude, sc.site.longitude, sc.site.altitude_m,
                                     pressure_pa=weather.data["pressure"].to_numpy(),
                                     temp_air_c=weather.data["temp_air"].to_numpy())
-    load_b, notes_b = _load(sc, "path", "column", "monthly_kwh", step_s, tz, timezone)
-    load_g, notes_g = _load(sc, "grid_only_path", "grid_only_column", "grid_only_monthly_kwh", step_s, tz, timezone)
+    load_b, notes_b = _load_year(sc, measured_b, "path", "monthly_kwh", step_s, tz)
+    load_g, notes_g = _load_year(sc, measured_g, "grid_only_path", "grid_only_monthly_kwh", step_s, tz)
     intervals = []
     if sc.grid.outages_path:
         intervals += outages.read_outages_csv(sc.resolve(sc.grid.outages_path, "grid.outages_path"), tz)
