@@ -120,8 +120,12 @@ def apply_controls(sc: Scenario, c: Controls) -> Scenario:
     e = sc.expansion
     if e is not None:
         micro = c.microinverter if e.microinverter is not None and c.microinverter is not None else e.microinverter
+        # cost_ac / cost_dc are for the file's count of panels: another count is priced per panel, so that the
+        # saved file's costs match its count (nothing to scale from a count of 0; a count of 0 keeps them)
+        scale = c.count / e.count if e.count > 0 and c.count > 0 else 1.0
         e = dataclasses.replace(e, count=int(c.count), tilt_deg=float(c.tilt_deg), azimuth_deg=float(c.azimuth_deg),
-                                module=c.module, microinverter=micro)
+                                module=c.module, microinverter=micro, cost_ac=round(e.cost_ac * scale, 2),
+                                cost_dc=round(e.cost_dc * scale, 2))
     b = sc.battery
     if b is not None and c.battery_kwh is not None:
         b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),

@@ -8,6 +8,7 @@ energy it cannot otherwise place, curtailment does not fall as output rises.
 
 from __future__ import annotations
 
+import dataclasses
 import re
 from pathlib import Path
 
@@ -148,3 +149,49 @@ def test_uploaded_scenario_cannot_reach_outside_its_folder(monkeypatch):
     at.file_uploader(key="own_files").set_value([("mine.toml", text.encode(), "application/toml")]).run()
     assert not at.exception
     assert at.error and "outside" in at.error[0].value
+
+
+# ------------------------------------------------------------------------------------ the state, without a page
+def test_controls_reproduce_every_sample_scenario():
+    for path in state.sample_sites(SAMPLES).values():
+        from core.scenario import load_scenario
+
+        sc = load_scenario(path)
+        c = state.controls_from_scenario(sc)
+        assert state.build_scenario(sc, c) == sc, path
+
+
+def test_other_counts_are_priced_per_panel():
+    from core.scenario import load_scenario
+
+    sc = load_scenario(MAPLE)  # [expansion] count = 2, cost_ac = 1150, cost_dc = 980
+    c = state.controls_from_scenario(sc)
+    five = state.build_scenario(sc, dataclasses.replace(c, count=5))
+    assert five.expansion.cost_ac == pytest.approx(1150 * 5 / 2)
+    assert five.expansion.cost_dc == pytest.approx(980 * 5 / 2)
+
+
+def test_impossible_settings_name_the_control():
+    from core.errors import InputError
+    from core.scenario import load_scenario
+
+    sc = load_scenario(MAPLE)
+    c = state.controls_from_scenario(sc)
+    with pytest.raises(InputError, match="Export limit"):
+        state.build_scenario(sc, dataclasses.replace(c, export_allowed=True, export_limit_w=0.0))
+    with pytest.raises(InputError, match="Outage reserve"):
+        state.build_scenario(sc, dataclasses.replace(c, reserve_pct=sc.battery.floor_pct - 1))
+
+
+def test_uploads_stay_in_their_folder_and_have_a_size_limit(tmp_path):
+    from core.errors import InputError
+
+    assert state.safe_upload_name("../../etc/passwd") == "passwd"
+    assert state.safe_upload_name("C:\\Users\\me\\my load.csv") == "my_load.csv"
+    assert state.safe_upload_name("..hidden") == "hidden"
+    path = state.save_upload(tmp_path, "../x.csv", b"a,b\n")
+    assert path.parent == tmp_path and path.read_bytes() == b"a,b\n"
+    with pytest.raises(InputError, match="MB"):
+        state.save_upload(tmp_path, "big.csv", b"x" * 11, limit_bytes=10)
+    with pytest.raises(InputError, match="empty"):
+        state.save_upload(tmp_path, "empty.csv", b"")

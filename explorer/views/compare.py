@@ -83,5 +83,6 @@ def render(comparison, chosen: str):
     st.altair_chart(charts.options_chart(chart_frame(comparison)), width="stretch")
     st.caption("More to the loads from PV = grid import saved + load served in outages that went unserved before. "
                "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "
-               "export earns nothing. Investment: the scenario's cost_ac / cost_dc.")
+               "export earns nothing. Investment: the scenario's cost_ac / cost_dc, priced per panel when the count "
+               "differs from the file's.")
     return table, v.text
