@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from core.errors import InputError
+from core.timebase import check_site
 
 #: SPA's default difference between terrestrial and universal time (s); the Reda & Andreas example uses 67 s.
 DEFAULT_DELTA_T_S = 67.0
@@ -66,7 +66,7 @@ def solar_geometry(index, latitude: float, longitude: float, altitude_m: float, 
     be arrays aligned with ``index`` (e.g. the weather columns). ``step_s`` is read from the index when not given.
     """
     index = pd.DatetimeIndex(index)
-    _check_site(latitude, longitude, altitude_m)
+    check_site(latitude, longitude, altitude_m)
     if step_s is None:
         step_s = _index_step_s(index)
     pressure = pvlib.atmosphere.alt2pres(altitude_m) if pressure_pa is None else _as_values(pressure_pa)
@@ -97,16 +97,3 @@ def _index_step_s(index: pd.DatetimeIndex) -> int:
     if len(steps) != 1:
         raise ValueError("the index is not regular; pass a regular interval-start index")
     return int(steps[0])
-
-
-def _check_site(latitude: float, longitude: float, altitude_m: float) -> None:
-    for key, value, low, high in (("site.latitude", latitude, -90.0, 90.0),
-                                  ("site.longitude", longitude, -180.0, 180.0),
-                                  ("site.altitude_m", altitude_m, -500.0, 9000.0)):
-        try:
-            number = float(value)
-        except (TypeError, ValueError):
-            raise InputError(f"{value!r} is not a number", where=key, hint=f"give a value in {low:g}..{high:g}") from None
-        if not np.isfinite(number) or not low <= number <= high:
-            raise InputError(f"{number!r} is outside {low:g}..{high:g}", where=key,
-                             hint="latitude and longitude in degrees (north and east positive), altitude in metres")

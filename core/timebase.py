@@ -8,6 +8,7 @@ from __future__ import annotations
 import datetime as dt
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
+import numpy as np
 import pandas as pd
 
 from core.errors import InputError
@@ -43,3 +44,17 @@ def nominal_index(step_s: int, tz: dt.tzinfo) -> pd.DatetimeIndex:
                          hint="use a step such as 60, 300, 900, 1800 or 3600 s")
     start = pd.Timestamp(NOMINAL_YEAR, 1, 1, tz=tz)
     return pd.date_range(start, periods=HOURS_PER_YEAR * 3600 // step_s, freq=pd.Timedelta(seconds=step_s))
+
+
+def check_site(latitude: float, longitude: float, altitude_m: float) -> None:
+    """Latitude, longitude and altitude of a site as numbers in range, else an error naming the key."""
+    for key, value, low, high in (("site.latitude", latitude, -90.0, 90.0),
+                                  ("site.longitude", longitude, -180.0, 180.0),
+                                  ("site.altitude_m", altitude_m, -500.0, 9000.0)):
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            raise InputError(f"{value!r} is not a number", where=key, hint=f"give a value in {low:g}..{high:g}") from None
+        if not np.isfinite(number) or not low <= number <= high:
+            raise InputError(f"{number!r} is outside {low:g}..{high:g}", where=key,
+                             hint="latitude and longitude in degrees (north and east positive), altitude in metres")

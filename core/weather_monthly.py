@@ -41,7 +41,7 @@ import pvlib
 from scipy import optimize, special
 
 from core.errors import InputError
-from core.timebase import nominal_index
+from core.timebase import check_site, nominal_index
 from core.weather import Weather, as_standard_tz, clearsky_ghi, erbs_split, sun_at_midpoints
 
 #: Bendt et al. (1981) lower limit of daily clearness (from memory).
@@ -229,7 +229,7 @@ def monthly_weather(ghi_kwh_m2_day: Sequence[float], temp_air_c: Sequence[float]
     """
     ghi_target = _twelve(ghi_kwh_m2_day, "weather.ghi_kwh_m2_day", 0.0, 15.0, "kWh/m2/day")
     temp_target = _twelve(temp_air_c, "weather.temp_air_c", -60.0, 50.0, "C")
-    _check_site(latitude, longitude, altitude_m)
+    check_site(latitude, longitude, altitude_m)
     if step_s <= 0 or 3600 % step_s:
         raise InputError(f"time step of {step_s} s is not a whole fraction of an hour", where="step",
                          hint="use 60, 300, 600, 900, 1800 or 3600 s")
@@ -427,16 +427,3 @@ def _twelve(values, key: str, low: float, high: float, unit: str) -> np.ndarray:
                              hint="check the value and its units")
         out[i] = number
     return out
-
-
-def _check_site(latitude, longitude, altitude_m) -> None:
-    for key, value, low, high in (("site.latitude", latitude, -90.0, 90.0),
-                                  ("site.longitude", longitude, -180.0, 180.0),
-                                  ("site.altitude_m", altitude_m, -500.0, 9000.0)):
-        try:
-            number = float(value)
-        except (TypeError, ValueError):
-            raise InputError(f"{value!r} is not a number", where=key, hint=f"give a value in {low:g}..{high:g}") from None
-        if not np.isfinite(number) or not low <= number <= high:
-            raise InputError(f"{number!r} is outside {low:g}..{high:g}", where=key,
-                             hint="latitude and longitude in degrees (north and east positive), altitude in metres")
