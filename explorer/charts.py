@@ -205,3 +205,11 @@ def outage_chart(events: pd.DataFrame) -> alt.LayerChart:
                  alt.Tooltip("unserved_kwh:Q", title="Unserved (kWh)", format=".1f"),
                  alt.Tooltip("lowest_soc_pct:Q", title="Lowest SOC (%)", format=".1f")],
     ).properties(width=WIDTH, height=HEIGHT)
+
+
+def draw(chart) -> None:
+    """Put a chart on the page. The specification is built without Altair's schema validation, which costs more
+    than the rest of a chart's work on every rerun; tests/test_charts.py validates every builder instead."""
+    import streamlit as st
+
+    st.vega_lite_chart(chart.to_dict(validate=False), width="stretch")

@@ -44,9 +44,9 @@ def render(sim, option: str, base_load_w: list[float]) -> None:
     duration = ac_surplus_duration(sim.steps, site.daylight, site.dt_h, loads_w=loads)
     daylight_hours = float(np.sum(site.daylight) * site.dt_h)
     st.markdown(answer(frame, duration, site.dt_h, daylight_hours))
-    st.altair_chart(charts.surplus_map_chart(frame), width="stretch")
+    charts.draw(charts.surplus_map_chart(frame))
     # about 1,500 points draw the curve as well as every step would
-    st.altair_chart(charts.surplus_duration_chart(duration.iloc[:: max(1, len(duration) // 1500)]), width="stretch")
+    charts.draw(charts.surplus_duration_chart(duration.iloc[:: max(1, len(duration) // 1500)]))
     b = sim.results.baseload
     st.caption(f"Compared with {reference_label(sc, option)}. Daytime base load: the 5th percentile of 1-hour mean "
                "load in daylight, per month. "

@@ -80,7 +80,7 @@ def render(comparison, chosen: str):
                     st.markdown(f"- {r}")
     table = options_table(comparison)
     st.dataframe(table, hide_index=True, width="stretch", height=36 * (len(table) + 1) + 3)
-    st.altair_chart(charts.options_chart(chart_frame(comparison)), width="stretch")
+    charts.draw(charts.options_chart(chart_frame(comparison)))
     st.caption("More to the loads from PV = grid import saved + load served in outages that went unserved before. "
                "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "
                "export earns nothing. Investment: the scenario's cost_ac / cost_dc, priced per panel when the count "

@@ -24,7 +24,7 @@ def render(sim, base_load_w: list[float]) -> None:
     usable_wh = sim.scenario.battery.usable_kwh * 1000.0 if sim.scenario.battery else 0.0
     base = base_load_w[month - 1]
     frame = typical_day(sim.steps, month, usable_wh=usable_wh, base_load_w=base)
-    st.altair_chart(charts.typical_day_chart(frame, MONTH_FULL_NAMES[month - 1]), width="stretch")
+    charts.draw(charts.typical_day_chart(frame, MONTH_FULL_NAMES[month - 1]))
     w = frame[frame["unit"] == "W"].pivot_table(index="hour", columns="series", values="value")
     ac = w.get("AC-coupled PV output")
     peak_ac = float(ac.max()) if ac is not None else 0.0

@@ -10,7 +10,7 @@ from explorer import charts
 
 def render(sim, baseline) -> None:
     frame = pv_destinations_by_month(sim.results.months)
-    st.altair_chart(charts.pv_destinations_chart(frame), width="stretch")
+    charts.draw(charts.pv_destinations_chart(frame))
     table = frame.pivot_table(index="destination", columns="month", values="kwh", sort=False)
     table.columns = [MONTH_NAMES[m - 1] for m in table.columns]
     table["Year"] = table.sum(axis=1)

@@ -23,7 +23,7 @@ def render(sim, baseline) -> None:
                 delta=f"{h['unserved'] - hb['unserved']:+.1f} h", delta_color="inverse", border=True)
     c[3].metric("Unserved energy", fmt_kwh(e["unserved"]), delta=fmt_kwh(e["unserved"] - eb["unserved"], signed=True),
                 delta_color="inverse", border=True)
-    st.altair_chart(charts.outage_chart(events), width="stretch")
+    charts.draw(charts.outage_chart(events))
     table = events.assign(start=[s.strftime("%d %b %H:%M") for s in events["start"]])
     table.columns = ["Start (local standard time)", "Length (h)", "Unserved (kWh)", "Unserved (h)",
                      "Lowest SOC (%)"]

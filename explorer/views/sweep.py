@@ -90,8 +90,8 @@ def render(sc, c: state.Controls, caching) -> None:
     frame = heat_frame(table, axis)
     current = {"count": c.count, axis: int(round(c.azimuth_deg if axis == "azimuth_deg" else c.tilt_deg))}
     colour = st.radio("Colour by", list(COLOUR_BY), format_func=COLOUR_BY.get, horizontal=True, key="sweep_colour")
-    st.altair_chart(charts.sweep_heatmap(frame, x=axis, x_title=title, value=colour, value_title=COLOUR_BY[colour],
-                                         current=current), width="stretch")
+    charts.draw(charts.sweep_heatmap(frame, x=axis, x_title=title, value=colour, value_title=COLOUR_BY[colour],
+                                     current=current))
     best = frame.loc[frame["self_consumed_added_kwh"].idxmax()]
     clean = frame[(frame["flag"] == "") & (frame["count"] > 0)]
     text = (f"Most added self-consumed energy: {int(best['count'])} panels at {title.split(' ')[0].lower()} "
