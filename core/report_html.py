@@ -187,11 +187,15 @@ def svg_heatmap(frame: pd.DataFrame, *, title: str, subtitle: str) -> str:
     """Month × hour map of ``surplus_w`` from a ``surplus_by_month_hour`` frame."""
     height = _H + 40
     top, bottom = _M["top"], height - _M["bottom"]
-    limit = float(max(frame["surplus_w"].abs().max(), 1.0)) if len(frame) else 1.0
+    lit = frame[frame["ac_w"] > 1.0]
+    limit = float(max(lit["surplus_w"].abs().max(), 1.0)) if len(lit) else 1.0
     cw = (_W - _M["left"] - _M["right"]) / 24
     ch = (bottom - top) / 12
     body = []
+    body.append(f'<rect x="{_M["left"]}" y="{top}" width="{24 * cw:.1f}" height="{12 * ch:.1f}" fill="#eeeeee"/>')
     for row in frame.itertuples(index=False):
+        if row.ac_w <= 1.0:  # no AC-coupled output: left blank, as in the explorer
+            continue
         x = _M["left"] + row.hour * cw
         y = top + (row.month - 1) * ch
         body.append(f'<rect x="{x:.1f}" y="{y:.1f}" width="{cw + 0.3:.1f}" height="{ch + 0.3:.1f}" '
@@ -206,13 +210,15 @@ def svg_heatmap(frame: pd.DataFrame, *, title: str, subtitle: str) -> str:
                 "Hour of day (h, local standard time)</text>")
     legend = [(f"{-limit:,.0f} W: under the base load", _diverging(-limit, limit), False),
               ("0 W", _diverging(0.0, limit), False),
-              (f"+{limit:,.0f} W: above it", _diverging(limit, limit), False)]
+              (f"+{limit:,.0f} W: above it", _diverging(limit, limit), False),
+              ("no AC-coupled output", "#eeeeee", False)]
     return _frame_svg(body, title, subtitle, legend, height=height)
 
 
 # ------------------------------------------------------------------------------------------------- tables
-def _table(header: Sequence[str], rows: Sequence[Sequence], classes: Sequence[str] | None = None) -> str:
-    out = ["<table>", "<thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in header) + "</tr></thead>", "<tbody>"]
+def _table(header: Sequence[str], rows: Sequence[Sequence], classes: Sequence[str] | None = None,
+           table_class: str = "") -> str:
+    out = [f'<table class="{table_class}">' if table_class else "<table>", "<thead><tr>" + "".join(f"<th>{_e(h)}</th>" for h in header) + "</tr></thead>", "<tbody>"]
     for i, row in enumerate(rows):
         cls = f' class="{classes[i]}"' if classes and classes[i] else ""
         out.append(f"<tr{cls}>" + "".join(f"<td>{_e(c)}</td>" for c in row) + "</tr>")
@@ -235,6 +241,7 @@ h1{font-size:1.6rem;margin-bottom:.2rem} h2{font-size:1.2rem;margin-top:2rem;bor
 table{border-collapse:collapse;margin:.5rem 0 1rem;font-size:.9rem} th,td{padding:.25rem .6rem;text-align:right}
 th:first-child,td:first-child{text-align:left} thead th{border-bottom:1px solid #888} tbody tr:nth-child(odd){background:#f4f4f4}
 tr.alarm td{background:#fbe3d6;color:#8a2c00;font-weight:bold}
+table.text td,table.text th{text-align:left;vertical-align:top} table.text td:nth-child(4){font-size:.8rem;color:#555}
 .status-pass{color:#006b4f;font-weight:bold} .status-warn{color:#8a5a00;font-weight:bold}
 .status-fail{color:#a33b00;font-weight:bold}
 .cautions{border-left:6px solid #D55E00;background:#fff4ec;padding:.5rem 1rem}
@@ -291,21 +298,21 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
 
     day = fig.typical_day(steps, month, usable_wh=usable_wh, base_load_w=base_m)
     parts += ["<h2>A typical day</h2>", "<figure>" + svg_lines(
-        day, fig.SERIES_COLOURS, title=f"A typical day in {fig.MONTH_NAMES[month - 1]}",
+        day, fig.SERIES_COLOURS, title=f"A typical day in {fig.MONTH_FULL_NAMES[month - 1]}",
         subtitle="mean over the month's days: powers (W), battery SOC (%)", y_title="Power (W)") + "</figure>"]
 
     if float((steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).max()) > 0:
         surplus = fig.surplus_by_month_hour(steps, base_load_w)
         parts += ["<h2>AC-coupled output against the daytime base load</h2>", "<figure>" + svg_heatmap(
             surplus, title="Does the AC-coupled output stay under the daytime base load?",
-            subtitle="mean AC-coupled output minus the month's daytime base load (W)") + "</figure>"]
+            subtitle="mean AC-coupled output minus the month's daytime base load (W); grey: no output")
+            + "</figure>"]
 
     if checks is not None:
         parts.append("<h2>Design checks</h2>")
         if len(checks):
             rows = [[c.status.upper(), getattr(c, "subject", "") or c.id, c.sentence, c.source] for c in checks]
-            parts.append(_table(["Result", "Check", "Finding", "Source"], rows,
-                                [f"status-{c.status}" for c in checks]).replace(
+            parts.append(_table(["Result", "Check", "Finding", "Source"], rows, table_class="text").replace(
                 "<td>PASS</td>", '<td class="status-pass">PASS</td>').replace(
                 "<td>WARN</td>", '<td class="status-warn">WARN</td>').replace(
                 "<td>FAIL</td>", '<td class="status-fail">FAIL</td>'))

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import pandas as pd
 import streamlit as st
 
@@ -22,6 +24,11 @@ ENERGY_ROWS = (
 CHART_ROWS = ("to_loads_added_kwh", "curtailed_added_kwh", "clipped_added_kwh", "exported_uncontrolled_kwh")
 
 
+def _years(x: float | None) -> str:
+    """A payback; None means it does not happen within the analysis period."""
+    return fmt_years(math.inf if x is None else x)
+
+
 def options_table(comparison) -> pd.DataFrame:
     """Figures × options, as text with units (the baseline column holds the existing system's own year)."""
     opts = [k for k in comparison.options if k != "baseline"]
@@ -37,8 +44,8 @@ def options_table(comparison) -> pd.DataFrame:
     for label, get in (
         (f"Investment ({cur})", lambda e: f"{e.investment:,.0f}"),
         (f"First-year saving ({cur})", lambda e: f"{e.annual_saving:,.0f}"),
-        ("Simple payback", lambda e: fmt_years(e.simple_payback_years)),
-        ("Discounted payback", lambda e: fmt_years(e.discounted_payback_years)),
+        ("Simple payback", lambda e: _years(e.simple_payback_years)),
+        ("Discounted payback", lambda e: _years(e.discounted_payback_years)),
         (f"NPV ({cur})", lambda e: f"{e.npv:,.0f}"),
         ("IRR", lambda e: "—" if e.irr is None else fmt_pct(e.irr * 100.0)),
     ):

@@ -31,6 +31,8 @@ def compass(azimuth_deg: float) -> str:
 def reset(sc: Scenario, option_hint: str | None = None) -> None:
     """Set every control to the scenario's own values (a new scenario was chosen)."""
     c = state.controls_from_scenario(sc, option_hint)
+    for key in ("day_month", "sweep_result"):  # views that belong to the previous scenario
+        st.session_state.pop(key, None)
     for field, key in _KEYS.items():
         value = getattr(c, field)
         if value is None:
@@ -83,13 +85,13 @@ def render(sc: Scenario) -> state.Controls:
         st.subheader("Battery")
         b = sc.battery
         top = float(max(20.0, round(3 * b.usable_kwh)))
-        battery_kwh = st.slider("Usable capacity (kWh)", 0.0, top, step=0.1, key="c_battery")
+        battery_kwh = st.slider("Usable capacity (kWh)", 0.0, top, step=0.1, key="c_battery", format="%.1f")
         reserve = st.slider("Outage reserve (% SOC)", int(b.floor_pct), 100, key="c_reserve",
                             help=f"SOC kept back while the grid is up, for outages. In an outage the battery may go "
                             f"down to the floor of {b.floor_pct:.0f} %.")
 
     st.subheader("Grid connection")
-    standing = st.number_input("Standing draw (W)", 0.0, 2000.0, step=5.0, key="c_standing",
+    standing = st.number_input("Standing draw (W)", 0.0, 2000.0, step=5.0, key="c_standing", format="%.0f",
                                help="the small grid import the controller keeps to avoid accidental export")
     export_allowed = st.radio("Export", [False, True], key="c_export", horizontal=True,
                               format_func=lambda x: "allowed up to a limit" if x else "zero export") is True
@@ -97,7 +99,7 @@ def render(sc: Scenario) -> state.Controls:
     if export_allowed:
         if not limit:
             ss["c_export_limit"] = 500.0
-        limit = st.number_input("Export limit (W)", 0.0, 1e6, step=50.0, key="c_export_limit")
+        limit = st.number_input("Export limit (W)", 0.0, 1e6, step=50.0, key="c_export_limit", format="%.0f")
     limiter = st.checkbox("Export limiter curtails the microinverters", key="c_limiter",
                           help="Ticked: a limiter curtails AC-coupled output that would leave the site beyond what "
                           "is allowed. Unticked: nothing stops it, and it is counted as uncontrolled export.")
@@ -110,8 +112,8 @@ def render(sc: Scenario) -> state.Controls:
                        label_visibility="collapsed")
     per_year, mean_h = d.outages_per_year, d.outage_mean_hours
     if outages == "random":
-        per_year = st.slider("Outages per year", 0.0, 24.0, step=0.5, key="c_outages_n")
-        mean_h = st.slider("Mean length (h)", 0.5, 48.0, step=0.5, key="c_outages_h")
+        per_year = st.slider("Outages per year", 0.0, 24.0, step=0.5, key="c_outages_n", format="%.1f")
+        mean_h = st.slider("Mean length (h)", 0.5, 48.0, step=0.5, key="c_outages_h", format="%.1f")
 
     return state.Controls(
         option=option, count=int(count), tilt_deg=float(tilt), azimuth_deg=float(azimuth), module=module,

@@ -46,8 +46,13 @@ def _quality_rows(q: dict) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["Item", "Value"])
 
 
+def _table(frame) -> None:
+    """A two-column summary that wraps long values instead of cutting them."""
+    st.table(frame.set_index("Item"))
+
+
 def _show_quality(q: dict) -> None:
-    st.dataframe(_quality_rows(q), hide_index=True, width="stretch")
+    _table(_quality_rows(q))
     reasons = q.get("rejected_reasons") or {}
     if reasons:
         st.caption("Rejected rows: " + "; ".join(f"{k}: {v:,}" for k, v in reasons.items()))
@@ -119,7 +124,7 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
                 path = state.save_upload(folder, upload.name, upload.getvalue())
                 w = _read_weather(str(path), timezone, sc.site.latitude, sc.site.longitude, sc.site.altitude_m)
                 st.success(f"Read {upload.name}: the simulation now uses it.")
-                st.dataframe(_weather_summary(w), hide_index=True, width="stretch")
+                _table(_weather_summary(w))
                 weather_path = str(path)
         else:
             st.caption("Without an upload the scenario's own weather is used; its summary is below.")
@@ -155,7 +160,7 @@ def render_current(sim) -> None:
             quality = notes.get("quality")
             series = site.load_backed_w if channel == "backed_up" else site.load_grid_w
             total = float(np.sum(series) * site.dt_h / 1000.0)
-            with st.expander(f"{label}: {total:,.0f} kWh per year", expanded=False):
+            with st.expander(f"{label}: {total:,.0f} kWh per year", expanded=channel == "backed_up"):
                 if quality is not None:
                     _show_quality(quality.to_dict())
                     year = notes.get("year")
@@ -171,5 +176,5 @@ def render_current(sim) -> None:
                     st.caption("No load of this kind in the scenario.")
     with right:
         st.markdown("#### Weather in use")
-        st.dataframe(_weather_summary(site.weather), hide_index=True, width="stretch")
+        _table(_weather_summary(site.weather))
 
