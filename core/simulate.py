@@ -266,19 +266,25 @@ def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = 
         dc_loss_w=sources.dc.loss_w, ac_backed_out_w=sources.ac_backed.out_w, ac_backed_loss_w=sources.ac_backed.loss_w,
         ac_grid_out_w=sources.ac_grid.out_w, ac_grid_loss_w=sources.ac_grid.loss_w, grid_up=site.grid_up)
     flows = dispatch.dispatch(inputs, params, compiled=compiled)
-    steps = pd.DataFrame(flows.flows.T, index=site.index, columns=list(dispatch.FLOWS))
-    steps = steps.assign(
+    # One block per column: a DataFrame built from one 2-D block plus columns added one by one costs more than
+    # the engine itself on an hourly year (docs/performance.md). The engine's rows are this run's own; the
+    # site's and the sources' arrays are copied so that editing the table never reaches the caches.
+    columns = {name: flows.flows[i] for i, name in enumerate(dispatch.FLOWS)}
+    shared = dict(
         load_backed_w=site.load_backed_w, load_grid_w=site.load_grid_w, grid_up=site.grid_up,
         pv_potential_dc_w=sources.potential_dc_w, pv_potential_ac_w=sources.potential_ac_w,
         clipped_dc_w=sources.clipped_dc_w, clipped_ac_w=sources.clipped_ac_w,
         dc_out_w=sources.dc.out_w, ac_backed_out_w=sources.ac_backed.out_w, ac_grid_out_w=sources.ac_grid.out_w,
         ghi_w_m2=site.weather.data["ghi"].to_numpy())
-    ghi_kwh = steps["ghi_w_m2"] * site.dt_h / 1000.0
+    columns.update({name: np.array(values, dtype=bool if name == "grid_up" else float)
+                    for name, values in shared.items()})
+    steps = pd.DataFrame(columns, index=site.index, copy=False)
+    months = metrics.MonthGroups(site.index.month)
+    ghi_kwh = columns["ghi_w_m2"] * (site.dt_h / 1000.0)
     weather_figures = {"ghi_kwh_m2": float(ghi_kwh.sum()), "source": site.weather.source,
-                       "step_s": site.step_s,
-                       "months": [float(v) for v in ghi_kwh.groupby(ghi_kwh.index.month).sum()]}
-    results = metrics.summarise(steps, dt_h=site.dt_h, initial_wh=params.initial_wh, usable_wh=params.usable_wh,
-                                daylight=site.daylight, weather=weather_figures)
+                       "step_s": site.step_s, "months": [float(v) for v in months.sums(ghi_kwh)]}
+    results = metrics.summarise_columns(columns, months=months, dt_h=site.dt_h, initial_wh=params.initial_wh,
+                                        usable_wh=params.usable_wh, daylight=site.daylight, weather=weather_figures)
     return Simulation(scenario=sc, site=site, steps=steps, results=results, sources=sources)
 
 
