@@ -4,12 +4,24 @@ from __future__ import annotations
 
 import contextlib
 import logging
+import os
 
 import streamlit as st
 
 from core.errors import InputError
 
 log = logging.getLogger("secondroof.explorer")
+
+
+def private(text: str) -> str:
+    """The message with the session's upload folder taken out: people know their files by name."""
+    folder = st.session_state.get("upload_folder")
+    if folder is not None:
+        root = str(folder.path)
+        for sub in ("scenario", "data"):
+            text = text.replace(os.path.join(root, sub) + os.sep, "")
+        text = text.replace(root, "the upload folder")
+    return text
 
 
 class Stop(Exception):
@@ -27,8 +39,8 @@ def section(name: str):
     except Stop:
         pass
     except InputError as exc:
-        st.error(f"{name}: {exc}")
+        st.error(f"{name}: {private(str(exc))}")
     except Exception as exc:  # noqa: BLE001 - never a traceback on the page
         log.exception("internal error in %s", name)
-        st.error(f"{name}: internal error ({type(exc).__name__}: {exc}). The rest of the page still works; "
+        st.error(f"{name}: internal error ({type(exc).__name__}: {private(str(exc))}). The rest of the page still works; "
                  "please report this with the scenario that caused it.")

@@ -111,6 +111,7 @@ def test_malformed_load_upload_shows_one_error_and_the_page_keeps_working(monkey
     assert not at.exception
     assert len(at.error) == 1 and "meter.csv" in at.error[0].value
     assert "Traceback" not in at.error[0].value
+    assert "secondroof-upload" not in at.error[0].value  # the file by its name, not the session folder
     assert _headline(at) == before  # the scenario's own load is still used
     at.slider(key="c_count").set_value(4).run()  # and the controls still work
     assert not at.exception and _headline(at) != before
@@ -140,6 +141,16 @@ def test_saved_scenario_reloads_to_the_same_figures(monkeypatch):
     assert at.radio(key="c_option").value == "dc"
     assert at.slider(key="c_count").value == 4
     assert _headline(at) == figures
+
+
+def test_uploaded_scenario_without_its_data_files_says_which_file_is_missing(monkeypatch):
+    at = _app(monkeypatch)
+    at.radio(key="start_mode").set_value("My own scenario file").run()
+    at.file_uploader(key="own_files").set_value([("mine.toml", MAPLE.read_bytes(), "application/toml")]).run()
+    assert not at.exception
+    assert at.error and "723170TYA.CSV" in at.error[0].value
+    assert "secondroof-upload" not in at.error[0].value
+    assert any("licensed electrician" in md.value for md in at.markdown)  # the rest of the page is still there
 
 
 def test_uploaded_scenario_cannot_reach_outside_its_folder(monkeypatch):

@@ -97,9 +97,10 @@ def render(sc: Scenario) -> state.Controls:
                               format_func=lambda x: "allowed up to a limit" if x else "zero export") is True
     limit = ss.get("c_export_limit", d.export_limit_w)
     if export_allowed:
-        if not limit:
+        if (limit or 0.0) < 1.0:  # coming from zero export: start from a small limit rather than 0 W
             ss["c_export_limit"] = 500.0
-        limit = st.number_input("Export limit (W)", 0.0, 1e6, step=50.0, key="c_export_limit", format="%.0f")
+        limit = st.number_input("Export limit (W)", 1.0, 1e6, step=50.0, key="c_export_limit", format="%.0f",
+                                help="the most the site may send into the grid")
     limiter = st.checkbox("Export limiter curtails the microinverters", key="c_limiter",
                           help="Ticked: a limiter curtails AC-coupled output that would leave the site beyond what "
                           "is allowed. Unticked: nothing stops it, and it is counted as uncontrolled export.")

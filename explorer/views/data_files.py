@@ -105,7 +105,7 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
         unit_choice = c2.selectbox("Unit", UNIT_CHOICES, key="load_unit")
         unit = None if unit_choice == UNIT_CHOICES[0] else unit_choice
         if upload is not None:
-            with section(f"Load file {upload.name}"):
+            with section("Load file"):
                 path = state.save_upload(folder, upload.name, upload.getvalue())
                 summary = _inspect_load(str(path), timezone, unit, column, sc.site.latitude, sc.site.longitude)
                 st.success(f"Read {upload.name}: the simulation now uses it for the "
@@ -120,7 +120,7 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
         upload = st.file_uploader("Weather file (EPW, TMY3, TMY2 or CSV)", type=WEATHER_TYPES, key="weather_file",
                                   help="A full year at one hour or a whole fraction of an hour.")
         if upload is not None:
-            with section(f"Weather file {upload.name}"):
+            with section("Weather file"):
                 path = state.save_upload(folder, upload.name, upload.getvalue())
                 w = _read_weather(str(path), timezone, sc.site.latitude, sc.site.longitude, sc.site.altitude_m)
                 st.success(f"Read {upload.name}: the simulation now uses it.")

@@ -11,6 +11,7 @@ import streamlit as st
 from core.errors import InputError
 from core.scenario import Scenario, load_scenario
 from explorer import state
+from explorer.guard import private
 
 SCENARIO_TYPES = ["toml", "csv", "epw", "tm2", "txt"]
 
@@ -84,6 +85,6 @@ def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | No
     try:
         sc, hint = state.read_upload_scenario(folder, name)
     except InputError as exc:
-        st.error(str(exc))
+        st.error(private(str(exc)))
         return None
     return Source(sc, identity=f"upload:{name}:{digest.hexdigest()[:16]}", option_hint=hint)
