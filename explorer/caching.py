@@ -1,7 +1,7 @@
 """Caching at the edge of the page: the expensive parts of a simulation, kept across reruns and sessions.
 
 * the site (weather, sun, loads, outages) per site — :func:`core.simulate.prepare_site`;
-* one module's output per orientation, in one :class:`core.simulate.OrientationCache` per weather and site,
+* one module's output per orientation, in one :class:`core.simulate.OrientationCache` per site,
   so that a panel-count change never recomputes irradiance;
 * finished simulations per full scenario, so that moving a control back is instant.
 
@@ -28,17 +28,26 @@ def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> 
     return json.dumps(part, sort_keys=True, default=str)
 
 
-def weather_key(sc: Scenario) -> str:
-    """What one module's output per orientation depends on besides the module: the place and the weather."""
-    return _key(sc, ("site", "weather", "simulation"))
+def _stamps(sc: Scenario) -> dict:
+    """Size and modification time of each data file, so that a file changed on disk is read again."""
+    out = {}
+    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
+        value = getattr(getattr(sc, section), key)
+        if value:
+            try:
+                st_ = sc.resolve(value).stat()
+                out[f"{section}.{key}"] = (st_.st_size, st_.st_mtime_ns)
+            except (OSError, ValueError):
+                out[f"{section}.{key}"] = None  # the reader will say what is wrong
+    return out
 
 
 def site_key(sc: Scenario) -> str:
-    """What :func:`prepare_site` depends on: place, weather, loads and the outage definitions."""
+    """What :func:`prepare_site` depends on: place, weather, loads, the outage definitions and the files."""
     g = sc.grid
     outages = {"outages_path": g.outages_path,
                "random_outages": dataclasses.asdict(g.random_outages) if g.random_outages else None}
-    return _key(sc, ("site", "weather", "load", "simulation"), {"outages": outages})
+    return _key(sc, ("site", "weather", "load", "simulation"), {"outages": outages, "files": _stamps(sc)})
 
 
 @st.cache_resource(max_entries=12, show_spinner=False)
@@ -62,7 +71,8 @@ def site_data(sc: Scenario) -> SiteData:
 
 
 def orientation_cache(sc: Scenario) -> OrientationCache:
-    return _orientations(weather_key(sc))
+    """One per site: the time base can depend on the load's resolution, so the site's whole key is used."""
+    return _orientations(site_key(sc))
 
 
 def simulation(sc: Scenario) -> Simulation:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import logging
-import os
+import re
 
 import streamlit as st
 
@@ -17,10 +17,9 @@ def private(text: str) -> str:
     """The message with the session's upload folder taken out: people know their files by name."""
     folder = st.session_state.get("upload_folder")
     if folder is not None:
-        root = str(folder.path)
-        for sub in ("scenario", "data"):
-            text = text.replace(os.path.join(root, sub) + os.sep, "")
-        text = text.replace(root, "the upload folder")
+        root = re.escape(str(folder.path))
+        text = re.sub(root + r"/(?:scenario|data)/[0-9a-f]{16}/", "", text)
+        text = re.sub(root, "the upload folder", text)
     return text
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import hashlib
 import re
 import tomllib
 from dataclasses import dataclass
@@ -207,6 +208,17 @@ def safe_upload_name(name: str) -> str:
     base = Path(name.replace("\\", "/")).name
     base = re.sub(r"[^A-Za-z0-9._-]+", "_", base).lstrip(".")
     return base or "upload"
+
+
+def content_folder(folder: Path, *contents: bytes) -> Path:
+    """A subfolder named after the contents: a new upload under an old name gets a new path, so nothing cached
+    for the old file is reused."""
+    digest = hashlib.sha256()
+    for c in contents:
+        digest.update(len(c).to_bytes(8, "little") + c)
+    path = Path(folder) / digest.hexdigest()[:16]
+    path.mkdir(parents=True, exist_ok=True)
+    return path
 
 
 def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_UPLOAD_BYTES) -> Path:

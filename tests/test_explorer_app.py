@@ -206,3 +206,20 @@ def test_uploads_stay_in_their_folder_and_have_a_size_limit(tmp_path):
         state.save_upload(tmp_path, "big.csv", b"x" * 11, limit_bytes=10)
     with pytest.raises(InputError, match="empty"):
         state.save_upload(tmp_path, "empty.csv", b"")
+
+
+def test_uploading_the_sites_own_load_file_keeps_the_figures_and_shows_its_summary(monkeypatch):
+    at = _app(monkeypatch)
+    before = _headline(at)
+    data = (MAPLE.parent / "load_backed_up.csv").read_bytes()
+    at.file_uploader(key="load_file").set_value(("my_meter.csv", data, "text/csv")).run()
+    _ok(at)
+    assert any("my_meter.csv" in s.value for s in at.success)
+    assert at.table, "the data-quality summary is shown beside the upload"
+    assert _headline(at) == before  # the same readings, now read from the upload
+    # and the upload is what the simulation reads: twice the backed-up load imports more from the grid
+    lines = data.decode().splitlines()
+    doubled = "\n".join([lines[0]] + [f"{t},{float(v) * 2:.1f}" for t, v in (ln.split(",") for ln in lines[1:])])
+    at.file_uploader(key="load_file").set_value(("my_meter.csv", doubled.encode(), "text/csv")).run()
+    _ok(at)
+    assert _metric(at, "Grid import") > _number(before["Grid import"])

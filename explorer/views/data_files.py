@@ -106,7 +106,8 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
         unit = None if unit_choice == UNIT_CHOICES[0] else unit_choice
         if upload is not None:
             with section("Load file"):
-                path = state.save_upload(folder, upload.name, upload.getvalue())
+                data = upload.getvalue()
+                path = state.save_upload(state.content_folder(folder, data), upload.name, data)
                 summary = _inspect_load(str(path), timezone, unit, column, sc.site.latitude, sc.site.longitude)
                 st.success(f"Read {upload.name}: the simulation now uses it for the "
                            f"{state.LOAD_CHANNELS[channel].lower()} (timestamps without an offset are read as "
@@ -121,7 +122,8 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
                                   help="A full year at one hour or a whole fraction of an hour.")
         if upload is not None:
             with section("Weather file"):
-                path = state.save_upload(folder, upload.name, upload.getvalue())
+                data = upload.getvalue()
+                path = state.save_upload(state.content_folder(folder, data), upload.name, data)
                 w = _read_weather(str(path), timezone, sc.site.latitude, sc.site.longitude, sc.site.altitude_m)
                 st.success(f"Read {upload.name}: the simulation now uses it.")
                 _table(_weather_summary(w))

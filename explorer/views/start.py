@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import hashlib
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -66,16 +65,13 @@ def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | No
         st.info("Upload a scenario file (.toml) together with its weather and load files, "
                 "or choose a sample site.")
         return None
-    folder = upload_folder / "scenario"
-    folder.mkdir(parents=True, exist_ok=True)
-    digest = hashlib.sha256()
+    contents = [(f.name, f.getvalue()) for f in files]
+    folder = state.content_folder(upload_folder / "scenario", *(n.encode() + b"\0" + d for n, d in contents))
     try:
-        for f in files:
-            data = f.getvalue()
-            state.save_upload(folder, f.name, data)
-            digest.update(f.name.encode() + data)
+        for name, data in contents:
+            state.save_upload(folder, name, data)
     except InputError as exc:
-        st.error(str(exc))
+        st.error(private(str(exc)))
         return None
     tomls = [f.name for f in files if f.name.lower().endswith(".toml")]
     if not tomls:
@@ -87,4 +83,4 @@ def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | No
     except InputError as exc:
         st.error(private(str(exc)))
         return None
-    return Source(sc, identity=f"upload:{name}:{digest.hexdigest()[:16]}", option_hint=hint)
+    return Source(sc, identity=f"upload:{name}:{folder.name}", option_hint=hint)
