@@ -21,6 +21,7 @@ from core.metrics import Results
 from core.options import Layout, applicable_options, layout_of, with_option
 from core.scenario import Scenario
 from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
+from core.timebase import MIN_STEP_S
 
 HOUR_S = 3600
 
@@ -105,7 +106,8 @@ def resolution_check(sc: Scenario, option: str | None = None, layout: Layout | N
     """The option (default: the first AC-coupled one that applies) at the native step and hourly.
 
     The native step is ``native_step_s`` if given, else ``[simulation] step_s``, else the measured load's own
-    interval (read from the file). Where it is an hour or more, the result says nothing is hidden.
+    interval (read from the file), but never finer than a minute (``core.timebase.MIN_STEP_S``). Where it is an
+    hour or more, the result says nothing is hidden.
     """
     if option is None:
         options = applicable_options(sc)
@@ -120,7 +122,7 @@ def resolution_check(sc: Scenario, option: str | None = None, layout: Layout | N
     if native_step_s is None:
         quality = hourly_site.load_notes.get("backed_up", {}).get("quality")
         native_step_s = getattr(quality, "interval_s", None) or HOUR_S
-    native_step_s = int(native_step_s)
+    native_step_s = max(int(native_step_s), MIN_STEP_S)  # finer readings (e.g. 1 s) are averaged to a minute
     if native_step_s >= HOUR_S:
         native_site = hourly_site
     else:

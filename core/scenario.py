@@ -206,7 +206,8 @@ class Tariff:
 
 @dataclass(frozen=True)
 class Simulation:
-    step_s: int | None = field(default=None, metadata=_num(1, 3600))  # None = the data's own resolution
+    # None = the weather's own step. Finer than a minute is refused: a year at 1 s is 31.5 million steps.
+    step_s: int | None = field(default=None, metadata=_num(60, 3600))
     design_low_temp_c: float | None = field(default=None, metadata=_num(-60, 40))
     design_high_temp_c: float | None = field(default=None, metadata=_num(0, 90))
 
@@ -234,8 +235,18 @@ class Scenario:
     confine_to: Path | None = field(default=None, compare=False, repr=False)
 
     def resolve(self, relative: str, where: str = "path") -> Path:
-        """The absolute path of a file named in the scenario, checked to stay inside ``confine_to``."""
-        path = (self.base_dir / relative).resolve()
+        """The absolute path of a file named in the scenario, checked to stay inside ``confine_to``.
+
+        Symbolic links are followed before the check, so a link inside the folder that points out of it is
+        refused too.
+        """
+        if "\x00" in str(relative):
+            raise InputError("the path contains a NUL character", where=where, hint="write a plain file name")
+        try:
+            path = (self.base_dir / relative).resolve()
+        except (OSError, RuntimeError, ValueError) as exc:  # too long, a symlink loop, …
+            raise InputError(f"path {relative!r} cannot be resolved ({exc})", where=where,
+                             hint="check the path; keep data files in the scenario's folder") from None
         if self.confine_to is not None:
             root = Path(self.confine_to).resolve()
             if not path.is_relative_to(root):
@@ -432,7 +443,10 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
     sc = r.build(Scenario, table, "")
     sc = dataclasses.replace(sc, base_dir=Path(base_dir or ".").resolve(), confine_to=confine_to)
     _cross_check(sc, r)
-    return _absolute_paths(sc)
+    try:
+        return _absolute_paths(sc)
+    except InputError as exc:  # name the scenario file in path errors too
+        r.fail(exc.where or "", exc.message, exc.hint)
 
 
 def _absolute_paths(sc: Scenario) -> Scenario:
@@ -454,8 +468,8 @@ def load_scenario(path: str | os.PathLike, *, confine_to: Path | None = None) ->
     path = Path(path)
     try:
         raw = path.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read the scenario file: {exc.strerror or exc}", file=str(path),
+    except (OSError, ValueError) as exc:  # ValueError: a NUL character in the name
+        raise InputError(f"cannot read the scenario file: {getattr(exc, 'strerror', None) or exc}", file=str(path),
                          hint="check the path") from exc
     try:
         text = raw.decode("utf-8-sig")

@@ -16,6 +16,9 @@ from core.errors import InputError
 #: The nominal year every source is aligned onto (not a leap year; 1 January is a Sunday).
 NOMINAL_YEAR = 2023
 HOURS_PER_YEAR = 8760
+#: Finest simulation step. A year at one minute is 525,600 steps (a few hundred MB of flows); at one second it
+#: would be 31.5 million (many GB), so finer readings are averaged to the step instead.
+MIN_STEP_S = 60
 
 
 def standard_offset(timezone: str) -> dt.timezone:
@@ -42,6 +45,9 @@ def nominal_index(step_s: int, tz: dt.tzinfo) -> pd.DatetimeIndex:
     if step_s <= 0 or 86400 % step_s:
         raise InputError(f"time step of {step_s} s does not divide a day", where="step",
                          hint="use a step such as 60, 300, 900, 1800 or 3600 s")
+    if step_s < MIN_STEP_S:
+        raise InputError(f"a time step of {step_s} s is finer than the {MIN_STEP_S} s this tool simulates a year at",
+                         where="step", hint="use a step of 60 s or more; finer readings are averaged to the step")
     start = pd.Timestamp(NOMINAL_YEAR, 1, 1, tz=tz)
     return pd.date_range(start, periods=HOURS_PER_YEAR * 3600 // step_s, freq=pd.Timedelta(seconds=step_s))
 
