@@ -21,8 +21,13 @@ def steps_csv_text(sim) -> str:
 def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
     """Write the step table atomically; refuse to write over one of the run's input files."""
     path = Path(path)
-    target = path.resolve()
-    protected = {Path(p).resolve() for p in inputs}
+    try:
+        target = path.resolve()
+        protected = {Path(p).resolve() for p in inputs}
+        is_folder, parent_ok = target.is_dir(), target.parent.is_dir()
+    except (OSError, RuntimeError, ValueError) as exc:  # a name too long, a NUL character, a symlink loop
+        raise InputError(f"cannot use this output path ({exc})", file=str(path)[:300],
+                         hint="choose another name for the output") from None
     sc = sim.scenario
     for rel in (sc.weather.path, sc.load.path, sc.load.grid_only_path, sc.grid.outages_path):
         if rel:
@@ -30,6 +35,12 @@ def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
     if target in protected:
         raise InputError("refusing to write over an input file", file=str(path),
                          hint="choose another name for the output")
-    if not target.parent.is_dir():
+    if is_folder:
+        raise InputError("the output path is a folder", file=str(path), hint="give a file name, e.g. steps.csv")
+    if not parent_ok:
         raise InputError("the output folder does not exist", file=str(path))
-    return write_atomic(path, steps_csv_text(sim).encode("utf-8"))
+    try:
+        return write_atomic(path, steps_csv_text(sim).encode("utf-8"))
+    except OSError as exc:
+        raise InputError(f"cannot write the output ({exc.strerror or exc})", file=str(path),
+                         hint="choose a folder you can write to") from None
