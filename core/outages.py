@@ -24,22 +24,32 @@ def read_outages_csv(path, tz) -> list[tuple[pd.Timestamp, pd.Timestamp]]:
     Dates are mapped onto the nominal year by month, day and time of day, like every other series.
     """
     try:
-        table = pd.read_csv(path, dtype=str, skipinitialspace=True)
-    except (OSError, UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:
+        table = pd.read_csv(path, dtype=str, skipinitialspace=True, encoding="utf-8-sig")
+    except (OSError, ValueError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:  # ValueError: bad bytes
         raise InputError(f"cannot read the outage file: {exc}", file=str(path),
-                         hint="a CSV with columns start,end such as 2023-07-04 13:00,2023-07-04 16:30") from exc
-    missing = {"start", "end"} - set(c.strip().lower() for c in table.columns)
+                         hint="a UTF-8 CSV with columns start,end such as 2023-07-04 13:00,2023-07-04 16:30") from None
+    names = [str(c).strip().lower() for c in table.columns]
+    missing = {"start", "end"} - set(names)
     if missing:
         raise InputError(f"missing column(s) {', '.join(sorted(missing))}", file=str(path), where="header",
                          hint="the first line must be: start,end")
-    table.columns = [c.strip().lower() for c in table.columns]
+    if len(set(names)) < len(names):
+        raise InputError("a column name appears twice", file=str(path), where="header",
+                         hint="the first line must be: start,end")
+    table.columns = names
     out = []
     for row, (s, e) in enumerate(zip(table["start"], table["end"], strict=True), start=2):
+        if pd.isna(s) or pd.isna(e) or not str(s).strip() or not str(e).strip():
+            raise InputError("a start or end date is empty", file=str(path), where=f"row {row}",
+                             hint="every outage needs both dates, written as YYYY-MM-DD HH:MM")
         try:
             start, end = (_nominal(pd.Timestamp(v), tz) for v in (s, e))
-        except (ValueError, TypeError) as exc:
+        except (ValueError, TypeError, OverflowError) as exc:
             raise InputError(f"cannot read a date: {exc}", file=str(path), where=f"row {row}",
-                             hint="write dates as YYYY-MM-DD HH:MM") from exc
+                             hint="write dates as YYYY-MM-DD HH:MM") from None
+        if pd.isna(start) or pd.isna(end):
+            raise InputError("a start or end date is not a date", file=str(path), where=f"row {row}",
+                             hint="write dates as YYYY-MM-DD HH:MM")
         if end <= start:
             raise InputError("the outage ends before it starts", file=str(path), where=f"row {row}")
         out.append((start, end))

@@ -30,7 +30,7 @@ the altitude with :func:`pvlib.atmosphere.alt2pres`. Either fact is stated in :a
 
 Generic CSV format
 ------------------
-* Plain comma-separated text, UTF-8. Lines before the header that start with ``#`` are comments and are skipped.
+* Plain comma-separated text: UTF-8 (with or without a byte-order mark), UTF-16 or Latin-1. Lines before the header that start with ``#`` are comments and are skipped.
 * The first non-comment line is the header. Column names are matched without regard to case or surrounding spaces.
 * ``timestamp`` (required): the **start** of each interval, ISO 8601, e.g. ``2023-01-01 00:00`` or
   ``2023-01-01T00:00-05:00``. Timestamps without a UTC offset are read as the site's *standard* time (no daylight
@@ -53,6 +53,7 @@ from __future__ import annotations
 
 import datetime as dt
 import difflib
+import io
 import pathlib
 from dataclasses import dataclass, replace
 
@@ -179,10 +180,15 @@ def read_weather_file(path: str | pathlib.Path, *, fmt: str | None = None, tz: d
     InputError naming the file and the line/column for every problem.
     """
     path = pathlib.Path(path)
-    if not path.exists():
+    try:
+        found, is_file = path.exists(), path.is_file()
+    except (OSError, ValueError) as exc:  # a name too long, a NUL character, no permission on a folder
+        raise InputError(f"weather file cannot be opened ({getattr(exc, 'strerror', None) or exc})",
+                         file=str(path)[:300], hint="check the path") from None
+    if not found:
         raise InputError("weather file not found", file=str(path),
                          hint="check the path; relative paths are taken from the scenario file's folder")
-    if not path.is_file():
+    if not is_file:
         raise InputError("weather path is not a file", file=str(path), hint="point to an EPW, TMY3, TMY2 or CSV file")
     if fmt is None:
         fmt = _detect_format(path)
@@ -406,17 +412,15 @@ def _read_csv(path: pathlib.Path, tz: dt.timezone | None, latitude: float | None
               altitude_m: float | None) -> Weather:
     meta: dict[str, float] = {}
     try:
-        with open(path, encoding="utf-8") as handle:
-            comment_lines = 0
-            for line in handle:
-                if not line.startswith("#"):
-                    break
-                comment_lines += 1
-                _read_comment_metadata(line, meta, path, comment_lines)
-        raw = pd.read_csv(path, skiprows=comment_lines, dtype=str, skip_blank_lines=False,
+        text = _decode_csv_bytes(path.read_bytes(), path)
+        comment_lines = 0
+        for line in text.split("\n"):
+            if not line.startswith("#"):
+                break
+            comment_lines += 1
+            _read_comment_metadata(line, meta, path, comment_lines)
+        raw = pd.read_csv(io.StringIO(text), skiprows=comment_lines, dtype=str, skip_blank_lines=False,
                           keep_default_na=False)
-    except UnicodeDecodeError:
-        raise InputError("is not UTF-8 text", file=str(path), hint="save the CSV as UTF-8") from None
     except (OSError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:
         raise InputError(f"cannot read the file as CSV ({exc})", file=str(path),
                          hint="use comma-separated text with one header line (see the generic CSV format)") from None
@@ -482,6 +486,41 @@ def _read_csv(path: pathlib.Path, tz: dt.timezone | None, latitude: float | None
     return Weather(data=frame[list(WEATHER_COLUMNS)].astype(float), step_s=step_s, source=source,
                    latitude=None if latitude is None else float(latitude),
                    longitude=None if longitude is None else float(longitude), altitude_m=altitude)
+
+
+def _decode_csv_bytes(raw: bytes, path) -> str:
+    """Text of a CSV file: UTF-8 with or without a byte-order mark, UTF-16 (with a mark, or detected from its NUL
+    bytes), else Latin-1 (in which every byte is a character). NUL bytes that are not UTF-16 mean binary data."""
+    codec = None
+    for bom, name in ((b"\xef\xbb\xbf", "utf-8-sig"), (b"\xff\xfe", "utf-16"), (b"\xfe\xff", "utf-16")):
+        if raw.startswith(bom):
+            codec = name
+            break
+    head = raw[:4096 - 4096 % 2]
+    if codec is None and b"\x00" in head:
+        odd, even = head[1::2].count(0), head[0::2].count(0)
+        if odd > 0.9 * len(head) / 2 and even == 0:
+            codec = "utf-16-le"
+        elif even > 0.9 * len(head) / 2 and odd == 0:
+            codec = "utf-16-be"
+        else:
+            line = raw[:raw.index(0)].count(b"\n") + 1
+            raise InputError("looks like binary data, not CSV text", file=str(path), where=f"line {line}",
+                             hint="give a comma-separated text file (see the generic CSV format)")
+    try:
+        text = raw.decode(codec or "utf-8")
+    except UnicodeDecodeError as exc:
+        if codec is not None:
+            line = raw[:exc.start].decode(codec, errors="replace").count("\n") + 1
+            raise InputError(f"is not valid {codec} text", file=str(path), where=f"line {line}",
+                             hint="save the CSV as UTF-8") from None
+        text = raw.decode("latin-1")
+    text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
+    if "\x00" in text:
+        line = text[:text.index("\x00")].count("\n") + 1
+        raise InputError("holds NUL characters, not CSV text", file=str(path), where=f"line {line}",
+                         hint="give a comma-separated text file (see the generic CSV format)")
+    return text
 
 
 def _read_comment_metadata(line: str, meta: dict[str, float], path, line_no: int) -> None:
