@@ -16,6 +16,7 @@ the shaded share of the row and a linear beam-shading model (the shaded share of
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -104,6 +105,12 @@ def min_row_gap(latitude: float, tilt_deg: float, length_m: float, *, azimuth_de
     ``azimuth_deg`` is the way the rows face (default: towards the equator); the window is in solar time.
     Raises InputError where the sun stays at or below the horizon during the window (no gap is enough).
     """
+    for name, value in (("latitude", latitude), ("tilt", tilt_deg), ("length", length_m), ("azimuth", azimuth_deg)):
+        if value is not None and not math.isfinite(value):
+            raise InputError(f"{name} {value!r} is not a finite number", where=name, hint="give a number")
+    if azimuth_deg is not None and not 0.0 <= azimuth_deg <= 360.0:
+        raise InputError(f"azimuth {azimuth_deg!r} is outside 0…360", where="azimuth",
+                         hint="degrees clockwise from north: 180 = south")
     if not -90.0 <= latitude <= 90.0:
         raise InputError(f"latitude {latitude!r} is outside −90…90", where="latitude", hint="degrees north")
     if not 0.0 <= tilt_deg <= 90.0:
@@ -150,7 +157,16 @@ def spacing_checks(sc, sim=None) -> list[Check]:
         if a.row_pitch_m is None or a.module_count <= 0:
             continue
         length = sc.modules[a.module].length_m
-        rule = min_row_gap(sc.site.latitude, a.tilt_deg, length, azimuth_deg=a.azimuth_deg)
+        try:
+            rule = min_row_gap(sc.site.latitude, a.tilt_deg, length, azimuth_deg=a.azimuth_deg)
+        except InputError as exc:  # polar sites: the sun is down on the winter solstice, no gap is enough
+            checks.append(Check(
+                id="spacing.rows", status="warn", value=None, limit=None, unit="m",
+                sentence=f"Array '{a.name}': the winter-solstice spacing rule does not apply here ({exc.message}); "
+                         "the rows shade each other whenever the sun is low, and the simulation counts that loss.",
+                source="solar geometry (Duffie & Beckman §1.6); design window: common practice",
+                caution=CAUTION_STRUCTURE, subject=f"array {a.name}"))
+            continue
         gap = a.row_pitch_m - rule.depth_m
         loss = None
         if sim is not None:
