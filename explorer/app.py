@@ -94,8 +94,13 @@ def main() -> None:
     with st.sidebar:
         source = start.render(SAMPLES, os.environ.get("SECONDROOF_SCENARIO"), folder)
     if source is None:
-        st.title("secondroof")
-        st.write("Choose a site in the sidebar.")
+        st.subheader("secondroof · what would a few more panels add?", divider="blue")
+        st.markdown(
+            "A year of your zero-export hybrid system, simulated at the resolution of your data, with and without "
+            "the panels you are considering — AC-coupled on microinverters or DC-coupled on a charge controller.\n\n"
+            "To start, choose a sample site in the sidebar, or upload your own scenario file (`.toml`) together "
+            "with the weather and load files it names. A scenario of your own is easiest to begin from a sample: "
+            "open one, then *Save and report → Download the scenario*, and edit it.")
         safety()
         return
 

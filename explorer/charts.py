@@ -180,8 +180,8 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "se
             x=alt.X(f"{x}:O"), y=alt.Y("count:O", sort="descending")))
     return alt.layer(*layers, title=alt.Title(
         f"{value_title.split(' (')[0]} by panel count and {x_title.split(' (')[0].lower()}",
-        subtitle=f"{value_title}, against the existing system; letters mark C = curtailment, "
-                 "X = uncontrolled export")
+        subtitle="against the existing system; C = more than a quarter of the new panels' output curtailed or "
+                 "clipped, X = uncontrolled export")
     ).properties(width=WIDTH, height=HEIGHT)
 
 
