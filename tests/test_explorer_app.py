@@ -223,3 +223,18 @@ def test_uploading_the_sites_own_load_file_keeps_the_figures_and_shows_its_summa
     at.file_uploader(key="load_file").set_value(("my_meter.csv", doubled.encode(), "text/csv")).run()
     _ok(at)
     assert _metric(at, "Grid import") > _number(before["Grid import"])
+
+
+def test_uploaded_weather_file_is_summarised_and_used(monkeypatch):
+    at = _app(monkeypatch)
+    before = _headline(at)
+    own = (MAPLE.parent / "723170TYA.CSV").read_bytes()
+    at.file_uploader(key="weather_file").set_value(("greensboro.csv", own, "text/csv")).run()
+    _ok(at)
+    assert _headline(at) == before  # the same TMY3 year under another name
+    # pvlib's Sand Point AK TMY3 file (shipped with pvlib, used by the Harbour View sample): far less sun
+    other = (SAMPLES / "harbour_view" / "703165TY.csv").read_bytes()
+    at.file_uploader(key="weather_file").set_value(("sand_point.csv", other, "text/csv")).run()
+    _ok(at)
+    assert _metric(at, "PV harvested") < _number(before["PV harvested"])
+    assert any("Global horizontal irradiation" in str(t.value) for t in at.table)
