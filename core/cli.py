@@ -296,12 +296,22 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _one_line(text: str) -> str:
+    """Messages quote file contents and library errors; newlines in them would break the one-line promise."""
+    return " ".join(str(text).split())
+
+
 def main(argv: Sequence[str] | None = None) -> int:
+    args = None
     try:
         args = build_parser().parse_args(argv)
         return args.func(args)
     except InputError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        scenario = getattr(args, "scenario", None)
+        if exc.file is None and scenario and exc.where and exc.where != "command line":
+            # A key of the scenario found wrong while simulating (e.g. a monthly figure the sky cannot give).
+            exc = InputError(exc.message, file=scenario, where=exc.where, hint=exc.hint)
+        print(_one_line(f"error: {exc}"), file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
@@ -309,8 +319,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:
         return EXIT_OK
     except Exception as exc:  # an internal error: say so in one line, never a traceback
-        print(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that caused it)",
-              file=sys.stderr)
+        print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
+                        "caused it)"), file=sys.stderr)
         return EXIT_INTERNAL
 
 

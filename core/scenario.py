@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from core.errors import InputError
+from core.timebase import standard_offset
 
 SCHEMA = 1
 
@@ -372,6 +373,12 @@ def _cross_check(sc: Scenario, r: _Reader) -> None:
                 f"defined: {', '.join(table)}" if table else f"add a [{kind}s.{name}] section")
             r.fail(where, f"no {kind} named {name!r}", hint)
 
+    for where, zone in (("site.timezone", sc.site.timezone), ("load.timezone", sc.load.timezone)):
+        if zone is not None:
+            try:
+                standard_offset(zone)
+            except InputError as exc:
+                r.fail(where, exc.message, exc.hint)
     if sc.weather.source == "file" and not sc.weather.path:
         r.fail("weather.path", "source = 'file' needs a path", "give the weather file's path, relative to the scenario")
     if sc.weather.source == "monthly" and (sc.weather.ghi_kwh_m2_day is None or sc.weather.temp_air_c is None):

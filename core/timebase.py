@@ -29,8 +29,8 @@ def standard_offset(timezone: str) -> dt.timezone:
     """
     try:
         zone = ZoneInfo(timezone)
-    except (ZoneInfoNotFoundError, ValueError) as exc:
-        raise InputError(f"unknown time zone {timezone!r}", where="site.timezone",
+    except (ZoneInfoNotFoundError, ValueError, OSError) as exc:  # OSError: "Europe" is a folder, or too long
+        raise InputError(f"unknown time zone {str(timezone)[:60]!r}", where="site.timezone",
                          hint="use an IANA name such as 'America/New_York' or 'Europe/Berlin'") from exc
     for month in (1, 7):
         moment = dt.datetime(NOMINAL_YEAR, month, 15, 12, tzinfo=zone)

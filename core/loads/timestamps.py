@@ -283,8 +283,8 @@ def _regularity(parsed: pd.Series) -> float:
 def zone_or_error(timezone: str) -> ZoneInfo:
     try:
         return ZoneInfo(timezone)
-    except (ZoneInfoNotFoundError, ValueError, TypeError) as exc:
-        raise InputError(f"unknown time zone {timezone!r}", where="timezone",
+    except (ZoneInfoNotFoundError, ValueError, TypeError, OSError) as exc:  # OSError: "Europe" is a folder
+        raise InputError(f"unknown time zone {str(timezone)[:60]!r}", where="timezone",
                          hint="use an IANA name such as 'Europe/Berlin' or 'America/New_York'") from exc
 
 
