@@ -24,7 +24,8 @@ if str(ROOT) not in sys.path:  # `streamlit run explorer/app.py` puts explorer/ 
 
 from core.figures import headline_figures, secondary_figures  # noqa: E402
 from core.options import OPTION_LABELS, with_option  # noqa: E402
-from core.report_html import SAFETY_CAUTIONS, report_html  # noqa: E402
+from core.report_html import report_html  # noqa: E402
+from core.safety import SAFETY_CAUTIONS  # noqa: E402
 from explorer import adapters, caching, state  # noqa: E402
 from explorer.guard import section  # noqa: E402
 from explorer.views import (  # noqa: E402

@@ -38,13 +38,11 @@ from core.errors import InputError
 from core.scenario import Scenario
 
 __all__ = [
-    "CAUTIONS", "CAUTION_AC", "CAUTION_BATTERY", "CAUTION_DC", "CAUTION_ESTIMATE", "CAUTION_MICRO",
+    "CAUTION_AC", "CAUTION_BATTERY", "CAUTION_DC", "CAUTION_ESTIMATE", "CAUTION_MICRO",
     "CAUTION_STRUCTURE", "Check", "DesignTemperatures", "check_options", "design_temperatures", "run_checks",
     "weather_temperatures", "worst",
 ]
 
-#: Every caution, for the report and the page footer.
-CAUTIONS = (CAUTION_DC, CAUTION_AC, CAUTION_MICRO, CAUTION_BATTERY, CAUTION_STRUCTURE, CAUTION_ESTIMATE)
 
 
 def weather_temperatures(sc: Scenario) -> np.ndarray:
