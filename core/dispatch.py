@@ -350,7 +350,7 @@ def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool =
         "ac_grid_out_w", "ac_grid_loss_w")]
     up = np.ascontiguousarray(np.broadcast_to(np.asarray(inputs.grid_up, dtype=np.bool_), (n,)))
     p = params
-    out = np.zeros((len(FLOWS), n))
+    out = np.empty((len(FLOWS), n))  # the kernel writes every flow of every step
     kernel = _compiled_kernel if compiled else _kernel
     kernel(*args, up, float(p.dt_h), float(p.usable_wh), float(p.initial_wh), float(p.reserve_wh),
            float(p.floor_wh), float(p.charge_max_w), float(p.discharge_max_w), float(p.roundtrip_efficiency),
@@ -381,19 +381,25 @@ except NameError:  # pragma: no cover - numba is a declared dependency
 
 
 def dispatch_many(load_backed_w, load_grid_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
-                  *, compiled: bool = True) -> np.ndarray:
+                  *, compiled: bool = True, out: np.ndarray | None = None) -> np.ndarray:
     """Run the engine for many source variants that share loads, grid and plant (a sweep).
 
     ``sources`` maps ``dc_out_w``, ``dc_loss_w``, ``ac_backed_out_w``, ``ac_backed_loss_w``,
     ``ac_grid_out_w`` and ``ac_grid_loss_w`` to arrays of shape (variants, steps). Returns the flows
     with shape (variants, len(FLOWS), steps); variant ``i`` equals ``dispatch`` on row ``i``.
+
+    ``out``: an array of that shape (float64, C order) to write the flows into, e.g. one buffer reused
+    batch after batch, so that a sweep does not fault in fresh memory for every batch (docs/performance.md).
     """
     lb = np.ascontiguousarray(load_backed_w, dtype=float)
     n = lb.shape[0]
     rows = [np.ascontiguousarray(np.asarray(sources[k], dtype=float).reshape(-1, n)) for k in (
         "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")]
     k = rows[0].shape[0]
-    out = np.zeros((k, len(FLOWS), n))
+    if out is None:
+        out = np.empty((k, len(FLOWS), n))  # the kernel writes every flow of every step
+    elif out.shape != (k, len(FLOWS), n) or out.dtype != np.float64 or not out.flags.c_contiguous:
+        raise ValueError(f"out must be a C-ordered float64 array of shape {(k, len(FLOWS), n)}")
     p = params
     args = (lb, _as_float(load_grid_w, n), *rows,
             np.ascontiguousarray(np.broadcast_to(np.asarray(grid_up, dtype=np.bool_), (n,))),

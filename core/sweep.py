@@ -26,8 +26,9 @@ COLUMNS = (
     "clipped_added_kwh", "curtailed_share", "clipped_share", "uncontrolled_export_kwh", "uncontrolled_export_hours",
     "unserved_added_kwh", "battery_discharge_added_kwh",
 )
-#: Bytes of engine output and inputs per batch (the engine's flows are 27 rows per step and variant).
-DEFAULT_BATCH_BYTES = 256e6
+#: Bytes of engine output and inputs per batch (the engine's flows are 27 rows per step and variant). One
+#: buffer of this size is made per sweep and reused batch after batch (docs/performance.md).
+DEFAULT_BATCH_BYTES = 64e6
 _SOURCE_KEYS = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
 _F = {name: i for i, name in enumerate(dispatch.FLOWS)}
 
@@ -103,14 +104,25 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
     n = len(site.index)
     per_variant = (len(dispatch.FLOWS) + len(_SOURCE_KEYS)) * n * 8
     batch = max(1, int(batch_bytes // per_variant))
+    # Buffers made once and reused by every batch (filled in place, no stacking, no fresh pages per batch).
+    buffers: dict[str, np.ndarray] = {}
 
     def run(variants: list[tuple[str, Layout, SourcePower]]) -> list[dict[str, float]]:
-        stacked = {k: np.stack([_source_rows(s)[k] for _, _, s in variants]) for k in _SOURCE_KEYS}
-        flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_w, site.grid_up, stacked, params)
+        k = len(variants)
+        if not buffers or buffers["flows"].shape[0] < k:
+            size = max(k, min(batch, len(plan) or 1))
+            buffers.update({key: np.empty((size, n)) for key in _SOURCE_KEYS},
+                           flows=np.empty((size, len(dispatch.FLOWS), n)))
+        for i, (_, _, s) in enumerate(variants):
+            for key, row in _source_rows(s).items():
+                buffers[key][i] = row
+        flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_w, site.grid_up,
+                                       {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
+                                       out=buffers["flows"][:k])
         return [_figures(flows[i], s, site.dt_h) for i, (_, _, s) in enumerate(variants)]
 
-    base = run([("baseline", Layout(0, 0.0, 0.0), source_power(sc, site, cache))])[0]
     plan = [(o, Layout(c, t, a)) for o in options for t in tilts for a in azimuths for c in counts]
+    base = run([("baseline", Layout(0, 0.0, 0.0), source_power(sc, site, cache))])[0]
     rows: list[dict] = []
     pending: list[tuple[str, Layout, SourcePower]] = []
     done = 0
@@ -136,5 +148,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
         flush()
     if progress:
         progress(1.0, "sweep done")
-    table = pd.DataFrame(rows, columns=list(COLUMNS))
+    # Column by column: building from a list of row dicts goes through object arrays and is slower.
+    table = (pd.DataFrame({c: [r[c] for r in rows] for c in COLUMNS}, columns=list(COLUMNS)) if rows
+             else pd.DataFrame(rows, columns=list(COLUMNS)))
     return table.sort_values(["option", "tilt_deg", "azimuth_deg", "count"], kind="stable").reset_index(drop=True)
