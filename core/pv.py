@@ -11,6 +11,7 @@ azimuth clockwise from north (180 = south, pvlib's convention), tilt from horizo
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -95,7 +96,24 @@ def poa_irradiance(weather_df: pd.DataFrame, geometry: SolarGeometry, tilt_deg: 
                 "poa_ground_diffuse", "aoi_deg"]]
 
 
-def effective_irradiance(poa_df: pd.DataFrame, *, iam_model: str = "physical", diffuse_iam: str | float = "marion",
+def diffuse_iam_factors(iam_model: str, tilt_deg: float) -> dict[str, float]:
+    """Marion's diffuse incidence-angle modifiers of a tilted plane: keys ``sky``, ``horizon``, ``ground``.
+
+    The IAM function integrated over the sky dome, the horizon band and the ground as seen from the plane
+    (Marion, Solar Energy 147 (2017) 344-348, :func:`pvlib.iam.marion_diffuse`). They depend on the tilt and the
+    IAM model only, so one computation serves every azimuth; NaN (a plane that sees none of a region) -> 0.
+    """
+    if iam_model == "none":
+        return {"sky": 1.0, "horizon": 1.0, "ground": 1.0}
+    if iam_model not in ("physical", "ashrae", "martin_ruiz"):
+        raise InputError(f"unknown angle-of-incidence model {iam_model!r}", where="iam_model",
+                         hint=f"use one of {', '.join(_IAM_MODELS)}")
+    raw = pvlib.iam.marion_diffuse(iam_model, float(tilt_deg))
+    return {k: float(np.nan_to_num(v, nan=0.0)) for k, v in raw.items()}
+
+
+def effective_irradiance(poa_df: pd.DataFrame, *, iam_model: str = "physical",
+                         diffuse_iam: str | float | Mapping[str, float] = "marion",
                          tilt_deg: float | None = None) -> np.ndarray:
     """Irradiance that reaches the cells after reflection losses at the module surface, W/m2.
 
@@ -105,7 +123,8 @@ def effective_irradiance(poa_df: pd.DataFrame, *, iam_model: str = "physical", d
 
     ``diffuse_iam``: ``"marion"`` integrates the same IAM function over the sky dome, the horizon band and the
     ground (Marion, Solar Energy 147 (2017) 344-348, :func:`pvlib.iam.marion_diffuse`) for the isotropic, horizon
-    and ground-reflected parts, while the Perez circumsolar part is treated like beam; a number is a constant
+    and ground-reflected parts, while the Perez circumsolar part is treated like beam; the same three factors may
+    be passed as a mapping from :func:`diffuse_iam_factors` computed once per tilt; a number is a constant
     modifier for all of the diffuse (1.0 = no diffuse loss, as pvlib's ModelChain does).
     """
     aoi = poa_df["aoi_deg"].to_numpy(dtype=float)
@@ -119,18 +138,17 @@ def effective_irradiance(poa_df: pd.DataFrame, *, iam_model: str = "physical", d
     else:
         raise InputError(f"unknown angle-of-incidence model {iam_model!r}", where="iam_model",
                          hint=f"use one of {', '.join(_IAM_MODELS)}")
-    if isinstance(diffuse_iam, str):
-        if diffuse_iam != "marion":
+    if isinstance(diffuse_iam, str | Mapping):
+        if isinstance(diffuse_iam, Mapping):
+            iam_d = {k: float(diffuse_iam[k]) for k in ("sky", "horizon", "ground")}
+        elif diffuse_iam != "marion":
             raise InputError(f"unknown diffuse IAM {diffuse_iam!r}", where="diffuse_iam",
                              hint="use 'marion' or a number between 0 and 1")
-        tilt = tilt_deg if tilt_deg is not None else poa_df.attrs.get("tilt_deg")
-        if tilt is None:
-            raise ValueError("effective_irradiance with diffuse_iam='marion' needs tilt_deg")
-        if iam_model == "none":
-            iam_d = {"sky": 1.0, "horizon": 1.0, "ground": 1.0}
         else:
-            raw = pvlib.iam.marion_diffuse(iam_model, float(tilt))
-            iam_d = {k: float(np.nan_to_num(v, nan=0.0)) for k, v in raw.items()}
+            tilt = tilt_deg if tilt_deg is not None else poa_df.attrs.get("tilt_deg")
+            if tilt is None:
+                raise ValueError("effective_irradiance with diffuse_iam='marion' needs tilt_deg")
+            iam_d = diffuse_iam_factors(iam_model, float(tilt))
         diffuse = (poa_df["poa_circumsolar"].to_numpy(dtype=float) * beam_iam
                    + poa_df["poa_isotropic"].to_numpy(dtype=float) * iam_d["sky"]
                    + poa_df["poa_horizon"].to_numpy(dtype=float) * iam_d["horizon"]
@@ -196,7 +214,7 @@ def module_output(weather_df: pd.DataFrame, geometry: SolarGeometry, *, tilt_deg
                   mount: str, losses_pct: float, pmax_w: float, vmp_v: float, imp_a: float, voc_v: float,
                   isc_a: float, gamma_pmax_pct_per_c: float, beta_voc_pct_per_c: float, alpha_isc_pct_per_c: float,
                   shading_loss=None, albedo: float = 0.2, iam_model: str = "physical",
-                  diffuse_iam: str | float = "marion") -> ModuleOutput:
+                  diffuse_iam: str | float | Mapping[str, float] = "marion") -> ModuleOutput:
     """The whole chain for ONE module at one orientation (count-independent; cache it per orientation).
 
     Perez POA (:func:`poa_irradiance`) -> optional shading of the beam -> AOI loss (:func:`effective_irradiance`)

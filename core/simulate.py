@@ -10,7 +10,6 @@ reuses it: :func:`prepare_site` (weather, sun, loads, outages) is computed once 
 
 from __future__ import annotations
 
-import dataclasses
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -151,15 +150,19 @@ class OrientationCache:
 
     def __init__(self) -> None:
         self._store: dict[tuple, pv.ModuleOutput] = {}
+        self._diffuse_iam: dict[float, dict[str, float]] = {}  # Marion's factors per tilt, for every azimuth
 
     def __len__(self) -> int:
         return len(self._store)
 
     def module_output(self, site: SiteData, sc: Scenario, array: Array) -> pv.ModuleOutput:
         m = sc.modules[array.module]
-        key = (site.key, dataclasses.astuple(m), array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct,
-               array.row_pitch_m)
+        # The module record itself (a frozen dataclass of numbers) is the key: equal fields, equal key.
+        key = (site.key, m, array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct, array.row_pitch_m)
         if key not in self._store:
+            tilt = float(array.tilt_deg)
+            if tilt not in self._diffuse_iam:
+                self._diffuse_iam[tilt] = pv.diffuse_iam_factors("physical", tilt)
             shading = None
             if array.row_pitch_m is not None:
                 # Rows of one module in portrait: the row in front shades the direct beam (pvlib shaded_fraction1d).
@@ -171,7 +174,7 @@ class OrientationCache:
                 mount=array.mount, losses_pct=array.losses_pct, pmax_w=m.pmax_w, vmp_v=m.vmp_v, imp_a=m.imp_a,
                 voc_v=m.voc_v, isc_a=m.isc_a, gamma_pmax_pct_per_c=m.gamma_pmax_pct_per_c,
                 beta_voc_pct_per_c=m.beta_voc_pct_per_c, alpha_isc_pct_per_c=m.alpha_isc_pct_per_c,
-                shading_loss=shading)
+                shading_loss=shading, iam_model="physical", diffuse_iam=self._diffuse_iam[tilt])
         return self._store[key]
 
 
