@@ -50,7 +50,7 @@ class Weather:
     format: Literal["epw", "tmy3", "tmy2", "csv"] | None = None
     ghi_kwh_m2_day: tuple[float, ...] | None = field(default=None, metadata=_num(0, 12, unit="kWh/m²/day", count=MONTHS))
     temp_air_c: tuple[float, ...] | None = field(default=None, metadata=_num(-60, 50, count=MONTHS))
-    seed: int = 0
+    seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
 
 
 @dataclass(frozen=True)
@@ -162,7 +162,7 @@ class Array:
 class RandomOutages:
     per_year: float = field(default=4.0, metadata=_num(0, 365))
     mean_hours: float = field(default=3.0, metadata=_num(0, 24 * 30, lo_open=True))
-    seed: int = 0
+    seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
 
 
 @dataclass(frozen=True)
