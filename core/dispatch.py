@@ -103,6 +103,34 @@ class DispatchResult:
         return self.flows[_F[name]]
 
 
+def _interp(x, xp, fp):
+    """``np.interp`` for one number on a rising table, step for step as NumPy computes it.
+
+    The same binary search, the same slope ``(fp[j+1] - fp[j]) / (xp[j+1] - xp[j])`` and the same
+    ``slope * (x - xp[j]) + fp[j]``, ends held flat; written out because NumPy's general routine costs more
+    than the rest of a step when it is called for one number (docs/performance.md).
+    """
+    if x != x:  # NaN passes through, as in NumPy
+        return x
+    last = xp.shape[0] - 1
+    if x <= xp[0]:
+        return fp[0]
+    if x >= xp[last]:
+        return fp[last]
+    lo = 0
+    hi = last
+    while hi - lo > 1:  # xp[lo] <= x < xp[hi]
+        mid = (lo + hi) >> 1
+        if xp[mid] <= x:
+            lo = mid
+        else:
+            hi = mid
+    if xp[lo] == x:
+        return fp[lo]
+    slope = (fp[lo + 1] - fp[lo]) / (xp[lo + 1] - xp[lo])
+    return slope * (x - xp[lo]) + fp[lo]
+
+
 def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
             dt, usable, e0, reserve, floor, ch_max, dis_max, rte, inv_ac, inv_dc,
             chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim, limiter, recharge, out):
@@ -177,12 +205,12 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                 outside = lg[t] - acg
             if n > sd:
                 want = min(n - sd, rating)
-                dc_need = np.interp(want, inv_ac, inv_dc)
+                dc_need = _interp(want, inv_ac, inv_dc)
                 use_dc = min(dc_need, dc_avail)
                 use_b = min(dc_need - use_dc, dis_room)
                 if dc_need - use_dc - use_b > 1e-12:
                     inv_p_dc = use_dc + use_b
-                    inv_p_ac = np.interp(inv_p_dc, inv_dc, inv_ac)
+                    inv_p_ac = _interp(inv_p_dc, inv_dc, inv_ac)
                 else:
                     inv_p_dc = dc_need
                     inv_p_ac = want
@@ -218,8 +246,8 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
             if exp_ok and dc_avail > 0.0:
                 head = min(rating - inv_p_ac, g + exp_lim)
                 if head > 0.0:
-                    x_dc = min(dc_avail, np.interp(head, inv_ac, inv_dc))
-                    x_ac = np.interp(x_dc + inv_p_dc, inv_dc, inv_ac) - inv_p_ac
+                    x_dc = min(dc_avail, _interp(head, inv_ac, inv_dc))
+                    x_ac = _interp(x_dc + inv_p_dc, inv_dc, inv_ac) - inv_p_ac
                     inv_p_dc += x_dc
                     inv_p_ac += x_ac
                     dc_avail -= x_dc
@@ -260,11 +288,11 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                 n = lb[t] - acb
                 if n > 0.0:
                     want = min(n, rating)
-                    dc_need = np.interp(want, inv_ac, inv_dc)
+                    dc_need = _interp(want, inv_ac, inv_dc)
                     use_dc = min(dc_need, dc_avail)
                     use_b = min(dc_need - use_dc, dis_room)
                     inv_p_dc = use_dc + use_b
-                    inv_p_ac = np.interp(inv_p_dc, inv_dc, inv_ac)
+                    inv_p_ac = _interp(inv_p_dc, inv_dc, inv_ac)
                     dc_avail -= use_dc
                     inv_pv += use_dc
                     bat_out += use_b
@@ -332,6 +360,10 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
 try:  # compiled when numba is available; the plain function stays reachable as _kernel
     import numba
 
+    # Plain Python when called from Python (the plain loop), compiled inline into the compiled kernel.
+    from numba.extending import register_jitable
+
+    _interp = register_jitable(_interp)
     _compiled_kernel = numba.njit(cache=True, nogil=True)(_kernel)
 except ImportError:  # pragma: no cover - numba is a declared dependency
     _compiled_kernel = _kernel
