@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import io
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 
@@ -23,11 +26,19 @@ def read_outages_csv(path, tz) -> list[tuple[pd.Timestamp, pd.Timestamp]]:
 
     Dates are mapped onto the nominal year by month, day and time of day, like every other series.
     """
+    hint = "a UTF-8 CSV with columns start,end such as 2023-07-04 13:00,2023-07-04 16:30"
     try:
-        table = pd.read_csv(path, dtype=str, skipinitialspace=True, encoding="utf-8-sig")
-    except (OSError, ValueError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:  # ValueError: bad bytes
-        raise InputError(f"cannot read the outage file: {exc}", file=str(path),
-                         hint="a UTF-8 CSV with columns start,end such as 2023-07-04 13:00,2023-07-04 16:30") from None
+        raw = Path(path).read_bytes()
+        text = raw.decode("utf-8-sig")
+        table = pd.read_csv(io.StringIO(text), dtype=str, skipinitialspace=True)
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(10) + 1  # 10 is the newline byte
+        raise InputError("is not UTF-8 text", file=str(path), where=f"line {line}", hint=hint) from None
+    except pd.errors.EmptyDataError:
+        raise InputError("is empty", file=str(path), where="line 1", hint=hint) from None
+    except (OSError, ValueError, pd.errors.ParserError) as exc:  # pandas names the line of a bad row
+        raise InputError(f"cannot read the outage file: {' '.join(str(exc).split())}", file=str(path),
+                         hint=hint) from None
     names = [str(c).strip().lower() for c in table.columns]
     missing = {"start", "end"} - set(names)
     if missing:

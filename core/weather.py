@@ -55,6 +55,7 @@ import datetime as dt
 import difflib
 import io
 import pathlib
+import re
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -233,13 +234,67 @@ def _call_reader(func, path: pathlib.Path, kind: str):
         return func(path)
     except InputError:
         raise
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the file as {kind} ({exc})", file=str(path),
-                         hint=f"check that it is a complete, unmodified {kind} file") from None
     except Exception as exc:  # noqa: BLE001 - any parser failure is a bad file, reported without a traceback
-        raise InputError(f"cannot read the file as {kind} ({type(exc).__name__}: {exc})", file=str(path),
+        line = _first_odd_line(path, kind)
+        detail = " ".join(str(exc).replace(str(path), "the file").split())[:200]
+        raise InputError(f"cannot read the file as {kind} ({type(exc).__name__}: {detail})", file=str(path),
+                         where=None if line is None else f"line {line}",
                          hint=f"check that it is a complete, unmodified {kind} file, "
                               "or convert it to the generic CSV format") from None
+
+
+#: Header lines of the fixed formats, and whether their data lines are fixed-width (TMY2) or comma-separated.
+_LAYOUT = {"TMY2": (1, True), "TMY3": (2, False), "EPW": (8, False)}
+
+
+def _first_odd_line(path: pathlib.Path, kind: str) -> int | None:
+    """The first line (1-based) that breaks its file's pattern, to point at when pvlib's reader gives up: a line
+    that is not UTF-8 text; a data line of another length (TMY2, fixed-width) or field count (TMY3, EPW) than most;
+    in TMY2, a character other than a digit, space or sign where most lines have a number. None if none stands
+    out."""
+    try:
+        raw_lines = path.read_bytes().replace(b"\r\n", b"\n").replace(b"\r", b"\n").split(b"\n")  # as pvlib
+    except OSError:
+        return None
+    for number, raw in enumerate(raw_lines, start=1):
+        try:
+            raw.decode("utf-8")
+        except UnicodeDecodeError:
+            return number
+    header, fixed = _LAYOUT.get(kind, (0, False))
+    lines = [raw.decode("utf-8") for raw in raw_lines]
+    if lines and not lines[-1]:
+        lines = lines[:-1]  # the file's closing newline
+    data = list(enumerate(lines[header:], start=header + 1))
+    if not data:
+        return None
+    shape = (lambda line: len(line)) if fixed else (lambda line: line.count(","))
+    usual = pd.Series([shape(line) for _, line in data]).mode().iloc[0]
+    for number, line in data:
+        if shape(line) != usual:
+            return number
+    if fixed:  # columns that hold a number (or a digit) in nearly every line, and the first line that does not
+        width = int(usual)
+        for allowed in (set("0123456789 -+"), set("0123456789-")):
+            counts = np.zeros(width)
+            for _, line in data:
+                counts += np.fromiter((c in allowed for c in line[:width]), dtype=float, count=width)
+            columns = np.flatnonzero(counts >= 0.99 * len(data))
+            for number, line in data:
+                if any(line[i] not in allowed for i in columns):
+                    return number
+    else:  # fields that hold a number, date or time in nearly every line, and the first line where one does not
+        numeric = re.compile(r"^[+-]?[0-9.:/]*([eE][+-]?[0-9]+)?$")
+        fields = [line.split(",") for _, line in data]
+        width = int(usual) + 1
+        counts = np.zeros(width)
+        for parts in fields:
+            counts += np.fromiter((bool(numeric.match(f)) for f in parts[:width]), dtype=float, count=width)
+        columns = np.flatnonzero(counts >= 0.99 * len(data))
+        for (number, _), parts in zip(data, fields, strict=True):
+            if any(not numeric.match(parts[i]) for i in columns):
+                return number
+    return None
 
 
 def _fixed_tz(hours: float) -> dt.timezone:
@@ -302,6 +357,7 @@ def _assemble(path, kind, data, columns, starts, lines, meta, tz, altitude_m, *,
     target_tz = tz if tz is not None else file_tz
     if len(data) not in (8760, 8784):
         raise InputError(f"has {len(data)} data rows, expected 8760 (one per hour of a year)", file=str(path),
+                         where=f"line {int(lines[-1]) + 1 if len(lines) else 1} (where the data end)",
                          hint=f"use a complete {kind} file; truncated or edited files cannot be used")
     label_at = _labeller(starts, lines)
     values = {}
@@ -323,7 +379,11 @@ def _assemble(path, kind, data, columns, starts, lines, meta, tz, altitude_m, *,
 def _labeller(starts: pd.DatetimeIndex, lines: np.ndarray):
     def label_at(pos: int) -> str:
         stamp = starts[pos]
-        return f"line {int(lines[pos])} (interval starting {stamp:%Y-%m-%d %H:%M})"
+        try:
+            when = f"{stamp:%Y-%m-%d %H:%M}"
+        except (ValueError, NotImplementedError):  # a year before 1 or after 9999: no strftime for it
+            when = f"{stamp.year}-{stamp.month:02d}-{stamp.day:02d} {stamp.hour:02d}:{stamp.minute:02d}"
+        return f"line {int(lines[pos])} (interval starting {when})"
     return label_at
 
 
@@ -421,8 +481,11 @@ def _read_csv(path: pathlib.Path, tz: dt.timezone | None, latitude: float | None
             _read_comment_metadata(line, meta, path, comment_lines)
         raw = pd.read_csv(io.StringIO(text), skiprows=comment_lines, dtype=str, skip_blank_lines=False,
                           keep_default_na=False)
-    except (OSError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:
-        raise InputError(f"cannot read the file as CSV ({exc})", file=str(path),
+    except pd.errors.EmptyDataError:
+        raise InputError("has no header line", file=str(path), where=f"line {comment_lines + 1}",
+                         hint="the first line after the comments names the columns, e.g. timestamp,ghi") from None
+    except (OSError, pd.errors.ParserError) as exc:  # pandas names the line: "Expected 3 fields in line 5, saw 4"
+        raise InputError(f"cannot read the file as CSV ({' '.join(str(exc).split())})", file=str(path),
                          hint="use comma-separated text with one header line (see the generic CSV format)") from None
     header_line = comment_lines + 1
     lines = np.arange(len(raw)) + header_line + 1
@@ -442,7 +505,8 @@ def _read_csv(path: pathlib.Path, tz: dt.timezone | None, latitude: float | None
                          where=f"line {header_line} (header)",
                          hint="give both dni and dhi, or neither (they are then derived from ghi)")
     if len(raw) == 0:
-        raise InputError("has no data rows", file=str(path), hint="add one row per interval of a year")
+        raise InputError("has no data rows", file=str(path), where=f"line {header_line + 1}",
+                         hint="add one row per interval of a year")
 
     starts = _parse_timestamps(raw[names["timestamp"]], tz, path, lines)
     target_tz = tz if tz is not None else _fixed_tz(starts[0].utcoffset().total_seconds() / 3600.0)
@@ -578,7 +642,8 @@ def _parse_timestamps(column: pd.Series, tz: dt.timezone | None, path, lines) ->
 
 def _infer_step(starts: pd.DatetimeIndex, path, label_at) -> int:
     if len(starts) < 2:
-        raise InputError("needs a full year of rows", file=str(path), hint="add one row per interval of a year")
+        raise InputError("needs a full year of rows", file=str(path), where="column 'timestamp'",
+                         hint="add one row per interval of a year")
     seconds = pd.Series(np.diff(starts.as_unit("s").asi8))
     step = int(seconds.mode().iloc[0])
     if step <= 0 or step > 3600 or 3600 % step:
