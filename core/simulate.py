@@ -124,13 +124,16 @@ def prepare_site(sc: Scenario) -> SiteData:
     measured_g = _measured(sc, "grid_only_path", "grid_only_column", timezone)
     load_steps = [m.quality.interval_s for m in (measured_b, measured_g) if m is not None]
     step_s = simulation_step_s(sc.simulation.step_s, weather.step_s, load_steps)
+    lat, lon, alt = sc.site.latitude, sc.site.longitude, sc.site.altitude_m
+    # The sun is computed once (SPA is the costliest step of a fine year); resampling and the geometry share it.
+    index = nominal_index(step_s, tz)
+    sun = weather_io.sun_at_midpoints(index, step_s, lat, lon, alt)
     if step_s != weather.step_s:
-        weather = weather_io.interpolate_weather(weather, step_s, latitude=sc.site.latitude,
-                                                 longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
+        weather = weather_io.interpolate_weather(weather, step_s, latitude=lat, longitude=lon, altitude_m=alt,
+                                                 solpos=sun)
     index = weather.data.index
-    geometry = solar.solar_geometry(index, sc.site.latitude, sc.site.longitude, sc.site.altitude_m,
-                                    pressure_pa=weather.data["pressure"].to_numpy(),
-                                    temp_air_c=weather.data["temp_air"].to_numpy())
+    geometry = solar.solar_geometry(index, lat, lon, alt, pressure_pa=weather.data["pressure"].to_numpy(),
+                                    temp_air_c=weather.data["temp_air"].to_numpy(), step_s=step_s, position=sun)
     load_b, notes_b = _load_year(sc, measured_b, "path", "monthly_kwh", step_s, tz)
     load_g, notes_g = _load_year(sc, measured_g, "grid_only_path", "grid_only_monthly_kwh", step_s, tz)
     intervals = []

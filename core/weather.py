@@ -707,7 +707,7 @@ def clearsky_ghi(index: pd.DatetimeIndex, step_s: int, latitude: float, longitud
 
 
 def interpolate_weather(weather: Weather, step_s: int, *, latitude: float, longitude: float,
-                        altitude_m: float) -> Weather:
+                        altitude_m: float, solpos: pd.DataFrame | None = None) -> Weather:
     """Resample weather to another step, keeping the energy of every original interval.
 
     Finer step: the clear-sky index ``kc = GHI / GHI_clear`` of each original interval (clear sky by
@@ -719,6 +719,8 @@ def interpolate_weather(weather: Weather, step_s: int, *, latitude: float, longi
     Temperature, wind speed and pressure are interpolated linearly between interval midpoints (the year wraps).
 
     Coarser step: block means (energy preserved exactly).
+    ``solpos``: the sun position at the fine step's midpoints (as :func:`sun_at_midpoints` gives it), when the
+    caller has it already.
     """
     old = weather.step_s
     if step_s == old:
@@ -742,7 +744,8 @@ def interpolate_weather(weather: Weather, step_s: int, *, latitude: float, longi
     k = old // step_s
     n = len(data)
     fine_index = nominal_index(step_s, tz)
-    solpos = sun_at_midpoints(fine_index, step_s, latitude, longitude, altitude_m)
+    if solpos is None or len(solpos) != len(fine_index):
+        solpos = sun_at_midpoints(fine_index, step_s, latitude, longitude, altitude_m)
     cs_fine = clearsky_ghi(fine_index, step_s, latitude, longitude, altitude_m, solpos=solpos)
     cs_block = cs_fine.reshape(n, k)
     cs_coarse = cs_block.mean(axis=1)

@@ -49,3 +49,16 @@ def test_bad_site_is_reported():
     index = nominal_index(3600, dt.UTC)
     with pytest.raises(InputError, match="site.latitude"):
         solar_geometry(index, 95.0, 0.0, 0.0)
+
+
+def test_reused_position_gives_the_same_geometry_as_a_full_spa_run():
+    # SPA's refraction (Reda & Andreas 2004, eqs. 42-44) is the only part that depends on pressure and
+    # temperature: a position computed with other settings, corrected again, must equal a full run.
+    index = pd.date_range("2023-03-01", periods=48 * 4, freq="15min", tz="Etc/GMT+5")
+    pressure = np.linspace(95_000, 102_000, len(index))
+    temperature = np.linspace(-10, 30, len(index))
+    direct = solar_geometry(index, 36.1, -79.9, 270.0, pressure_pa=pressure, temp_air_c=temperature)
+    other = sun_position(index + pd.Timedelta(minutes=7.5), 36.1, -79.9, 270.0, 101_325.0, 12.0)
+    reused = solar_geometry(index, 36.1, -79.9, 270.0, pressure_pa=pressure, temp_air_c=temperature, position=other)
+    np.testing.assert_allclose(reused.apparent_zenith_deg, direct.apparent_zenith_deg, atol=1e-9)
+    np.testing.assert_allclose(reused.azimuth_deg, direct.azimuth_deg, atol=1e-9)
