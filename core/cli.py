@@ -71,6 +71,10 @@ def _cmd_simulate(args) -> int:
     from core.simulate import simulate
 
     sc = load_scenario(args.scenario)
+    if args.steps_csv:  # refuse a bad output name before the year is simulated
+        from core.report import check_output_path
+
+        check_output_path(args.steps_csv, sc, inputs=[Path(args.scenario)])
     progress = stderr_progress("simulate") if sys.stderr.isatty() else None
     sim = simulate(sc, progress=progress)
     out = sim.results.to_dict()

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import os
 from pathlib import Path
 
 from core.errors import InputError
@@ -18,17 +19,19 @@ def steps_csv_text(sim) -> str:
     return buffer.getvalue()
 
 
-def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
-    """Write the step table atomically; refuse to write over one of the run's input files."""
+def check_output_path(path, sc, *, inputs: list[Path] = ()) -> Path:
+    """Raise InputError unless ``path`` may take an output of a run of ``sc``: not one of its input files (however
+    the path reaches it: '..', a symbolic link), not a folder, inside a folder that exists. Called before the
+    work starts, so that a long run is not wasted on a name that will be refused."""
     path = Path(path)
     try:
         target = path.resolve()
         protected = {Path(p).resolve() for p in inputs}
         is_folder, parent_ok = target.is_dir(), target.parent.is_dir()
+        special = os.path.lexists(path) and (path.is_symlink() or not path.is_file())
     except (OSError, RuntimeError, ValueError) as exc:  # a name too long, a NUL character, a symlink loop
         raise InputError(f"cannot use this output path ({exc})", file=str(path)[:300],
                          hint="choose another name for the output") from None
-    sc = sim.scenario
     for rel in (sc.weather.path, sc.load.path, sc.load.grid_only_path, sc.grid.outages_path):
         if rel:
             protected.add(sc.resolve(rel))
@@ -39,6 +42,15 @@ def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
         raise InputError("the output path is a folder", file=str(path), hint="give a file name, e.g. steps.csv")
     if not parent_ok:
         raise InputError("the output folder does not exist", file=str(path))
+    if special:  # a device such as /dev/null, a pipe, a link: the atomic rename would put a file in its place
+        raise InputError("exists and is not a regular file; it is not replaced", file=str(path),
+                         hint="give the name of a new or ordinary file")
+    return path
+
+
+def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
+    """Write the step table atomically; refuse to write over one of the run's input files."""
+    path = check_output_path(path, sim.scenario, inputs=inputs)
     try:
         return write_atomic(path, steps_csv_text(sim).encode("utf-8"))
     except OSError as exc:
