@@ -12,6 +12,7 @@ import dataclasses
 import difflib
 import math
 import os
+import re
 import tomllib
 import types
 import typing
@@ -271,8 +272,9 @@ class _Reader:
 
     def build(self, cls: type, table: Any, where: str) -> Any:
         if not isinstance(table, dict):
+            header = f"[[{where[:where.rindex('[')]}]]" if where.endswith("]") else f"[{where}]"  # arrays[0]
             self.fail(where, f"expected a table, found {type(table).__name__}",
-                      f"write it as [{where}] followed by key = value lines")
+                      f"write it as {header} followed by key = value lines")
         hints = typing.get_type_hints(cls)
         fields = {f.name: f for f in dataclasses.fields(cls) if f.init and f.name not in ("base_dir", "confine_to")}
         for key in table:
@@ -440,7 +442,12 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
     try:
         table = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        r.fail("", f"not valid TOML: {exc}", "check quotes, brackets and '=' signs on that line")
+        # tomllib says "(at line 3, column 9)" or "(at end of document)" in its text; make that the place.
+        found = re.search(r"\s*\(at (line \d+, column \d+|end of document)\)", str(exc))
+        where = f"line {text.count(chr(10)) + 1} (the end of the file)" if found is None or \
+            found[1] == "end of document" else found[1]
+        reason = str(exc) if found is None else str(exc).replace(found[0], "")
+        r.fail(where, f"not valid TOML: {reason}", "check quotes, brackets and '=' signs on that line")
     schema = table.pop("schema", SCHEMA)
     if schema != SCHEMA:
         r.fail("schema", f"schema {schema!r} is not supported", f"this version reads schema = {SCHEMA}")
