@@ -192,6 +192,11 @@ def parse_times(rows: pd.DataFrame, columns: TimeColumns, timezone: str | None, 
     else:
         fmt = _choose_format(text, timezone, label, warnings)
         naive = pd.DatetimeIndex(pd.to_datetime(text, format=fmt, errors="coerce"))
+        if naive.tz is not None:  # pandas read an offset that _OFFSET does not know (e.g. "… 00:15 -3"): such
+            odd = text.str.contains(r"(?:[+-]\d{1,4}|Z)$", regex=True)  # rows count as unreadable
+            naive = pd.DatetimeIndex(pd.to_datetime(text.where(~odd, ""), format=fmt, errors="coerce"))
+            if naive.tz is not None:
+                naive = pd.DatetimeIndex(np.full(len(text), np.datetime64("NaT"), dtype="datetime64[ns]"))
         if midnight24.any():
             naive = naive + pd.to_timedelta(np.where(midnight24, 1, 0), unit="D")
         if timezone is None:
