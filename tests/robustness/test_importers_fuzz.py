@@ -88,7 +88,7 @@ def test_weather_csv_of_random_shape_and_encoding(tmp_path_factory, seed):
 def _year_csv(extra_comment: str = "") -> str:
     index = pd.date_range("2023-01-01", periods=8760, freq="h")
     ghi = np.clip(700 * np.sin((index.hour - 6) / 12 * np.pi), 0, None)
-    rows = (f"{t:%Y-%m-%d %H:%M},{g:.1f},{5 + 10 * np.sin(t.dayofyear / 58):.1f}" for t, g in zip(index, ghi,
+    rows = (f"{t:%Y-%m-%d %H:%M},{g:.1f},{5 + 10 * np.sin(t.day_of_year / 58):.1f}" for t, g in zip(index, ghi,
                                                                                                strict=True))
     return extra_comment + "timestamp,ghi,temp_air\n" + "\n".join(rows) + "\n"
 
