@@ -273,6 +273,7 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
     baseline is always included). ``site`` and ``cache`` reuse earlier work; one of each serves all options.
     """
     layout = layout or layout_of(sc)
+    priced = sc if sc.expansion is None else sc.replace(expansion=sc.expansion.priced_for(layout.count))
     chosen = [o for o in applicable_options(sc) if options is None or o == "baseline" or o in options]
     if progress:
         progress(0.0, "weather and loads")
@@ -291,9 +292,11 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
             economics = None
         else:
             delta = option_delta(base_sim, sim)
-            economics = option_economics(sc, option, delta)
+            economics = option_economics(priced, option, delta)
         results[option] = OptionResult(option=option, label=OPTION_LABELS[option], scenario=sc_o, simulation=sim,
                                        delta=delta, economics=economics)
     if progress:
         progress(1.0, "done")
-    return Comparison(scenario=sc, layout=layout, options=results, verdict=make_verdict(sc, results))
+    verdict = (make_verdict(priced, results) if layout.count > 0 else
+               Verdict(None, None, "No panels are added (a count of 0): every option is the existing system.", ()))
+    return Comparison(scenario=sc, layout=layout, options=results, verdict=verdict)

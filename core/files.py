@@ -21,6 +21,8 @@ def write_atomic(path: str | os.PathLike, data: bytes) -> Path:
                          hint="give the name of a new or ordinary file")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
     try:
+        # mkstemp makes the file private (0600); give it the mode a plain new file would get under the umask
+        os.fchmod(fd, 0o666 & ~_umask())
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -30,3 +32,14 @@ def write_atomic(path: str | os.PathLike, data: bytes) -> Path:
         Path(tmp).unlink(missing_ok=True)
         raise
     return path
+
+
+def _umask() -> int:
+    """The process's umask, read without changing it (os.umask would, for a moment, in every thread)."""
+    try:
+        for line in Path("/proc/self/status").read_text().splitlines():
+            if line.startswith("Umask:"):
+                return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    return 0o022

@@ -163,7 +163,9 @@ def summarise_columns(c: Mapping[str, np.ndarray], *, months: MonthGroups, dt_h:
     ratios = {
         "self_consumption": None if _ratio(e["exported"], e["harvested"]) is None
         else 1.0 - e["exported"] / e["harvested"],
-        "self_sufficiency": None if e["load"] <= 1e-9 else 1.0 - e["grid_import"] / e["load"],
+        # The grid also feeds the system's own draw (idle, charger losses): with a tiny load the import can exceed
+        # the load, and the share is floored at 0 rather than shown negative.
+        "self_sufficiency": None if e["load"] <= 1e-9 else max(0.0, 1.0 - e["grid_import"] / e["load"]),
         "pv_utilisation": _ratio(e["harvested"], e["pv_potential"]),
     }
     up = np.asarray(c["grid_up"], dtype=bool)

@@ -191,8 +191,17 @@ class Expansion:
     controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
     modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
     strings: int | None = field(default=None, metadata=_num(1, 100))
+    # Costs of the whole expansion at ``count`` panels; another count is priced per panel (see priced_for).
     cost_ac: float = field(default=0.0, metadata=_num(0, 1e8))
     cost_dc: float = field(default=0.0, metadata=_num(0, 1e8))
+    # The coupling being looked at first (the explorer's choice when the file was saved); all are compared anyway.
+    coupling: Literal["ac_backed_up", "ac_grid", "dc"] | None = None
+
+    def priced_for(self, count: int) -> Expansion:
+        """The same expansion at another panel count, its costs scaled per panel (a count of 0 keeps them)."""
+        scale = count / self.count if self.count > 0 and count > 0 else 1.0
+        return dataclasses.replace(self, count=int(count), cost_ac=round(self.cost_ac * scale, 2),
+                                   cost_dc=round(self.cost_dc * scale, 2))
 
 
 @dataclass(frozen=True)

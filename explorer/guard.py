@@ -39,7 +39,8 @@ def section(name: str):
         pass
     except InputError as exc:
         st.error(f"{name}: {private(str(exc))}")
-    except Exception as exc:  # noqa: BLE001 - never a traceback on the page
+    except Exception:  # noqa: BLE001 - never a traceback on the page
         log.exception("internal error in %s", name)
-        st.error(f"{name}: internal error ({type(exc).__name__}: {private(str(exc))}). The rest of the page still works; "
-                 "please report this with the scenario that caused it.")
+        # Details stay in the server's log: the page shows no internals (issue: error details hidden).
+        st.error(f"{name}: something went wrong inside secondroof. The rest of the page still works; "
+                 "please report this with the scenario that caused it (details are in the server's log).")

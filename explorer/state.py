@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from core.errors import InputError
+from core.files import write_atomic
 from core.options import OPTION_LABELS, applicable_options, layout_of
 from core.scenario import RandomOutages, Scenario, parse_scenario, scenario_to_dict
 
@@ -32,7 +33,6 @@ DEFAULT_OUTAGE_HOURS = 4.0
 MAX_UPLOAD_BYTES = 40 * 1024 * 1024
 
 #: The comment line that carries the chosen coupling in a downloaded scenario (the schema has no key for it).
-_OPTION_COMMENT = "# explorer coupling:"
 
 
 @dataclass(frozen=True)
@@ -74,11 +74,19 @@ def panel_count_max(sc: Scenario) -> int:
     return int(max(12, 3 * count))
 
 
-def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
-    """The controls that reproduce the scenario as it is (``option`` defaults to the first allowed coupling)."""
+def default_coupling(sc: Scenario) -> str | None:
+    """The coupling the page shows first: the scenario's own, else the first the scenario allows."""
     allowed = couplings(sc)
-    if option not in allowed:
-        option = allowed[0] if allowed else "ac_backed_up"
+    if sc.expansion is not None and sc.expansion.coupling in allowed:
+        return sc.expansion.coupling
+    return allowed[0] if allowed else None
+
+
+def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
+    """The controls that reproduce the scenario as it is (``option`` defaults to the scenario's own coupling,
+    else the first allowed one)."""
+    if option not in couplings(sc):
+        option = default_coupling(sc) or "ac_backed_up"
     lay = layout_of(sc)
     e, b, g = sc.expansion, sc.battery, sc.grid
     random = g.random_outages
@@ -122,11 +130,11 @@ def apply_controls(sc: Scenario, c: Controls) -> Scenario:
     if e is not None:
         micro = c.microinverter if e.microinverter is not None and c.microinverter is not None else e.microinverter
         # cost_ac / cost_dc are for the file's count of panels: another count is priced per panel, so that the
-        # saved file's costs match its count (nothing to scale from a count of 0; a count of 0 keeps them)
-        scale = c.count / e.count if e.count > 0 and c.count > 0 else 1.0
-        e = dataclasses.replace(e, count=int(c.count), tilt_deg=float(c.tilt_deg), azimuth_deg=float(c.azimuth_deg),
-                                module=c.module, microinverter=micro, cost_ac=round(e.cost_ac * scale, 2),
-                                cost_dc=round(e.cost_dc * scale, 2))
+        # saved file's costs match its count
+        e = dataclasses.replace(e.priced_for(c.count), tilt_deg=float(c.tilt_deg), azimuth_deg=float(c.azimuth_deg),
+                                module=c.module, microinverter=micro,
+                                # written only when it says more than the default choice (so a file reloads equal)
+                                coupling=c.option if e.coupling is not None or c.option != default_coupling(sc) else None)
     b = sc.battery
     if b is not None and c.battery_kwh is not None:
         b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),
@@ -179,7 +187,7 @@ def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -
     """The scenario as TOML text for download, with data files named by their file names only.
 
     Loading it back (with those files in the same folder) gives the same scenario; the chosen coupling travels
-    in a comment line that :func:`option_in_text` reads.
+    as ``[expansion] coupling``.
     """
     import tomli_w
 
@@ -189,18 +197,10 @@ def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -
             table[section][key] = Path(table[section][key]).name
     names = ", ".join(p.name for p in data_files(sc)) or "none"
     head = (f"# {sc.name}: saved from the secondroof explorer on {(today or dt.date.today()).isoformat()}.\n"
-            f"# Keep it in one folder with the data files it names: {names}.\n"
-            f"{_OPTION_COMMENT} {option}\n")
+            f"# Keep it in one folder with the data files it names: {names}.\n")
+    if "expansion" in table and option in COUPLINGS:
+        table["expansion"]["coupling"] = option
     return head + tomli_w.dumps(table)
-
-
-def option_in_text(text: str) -> str | None:
-    """The coupling saved in a downloaded scenario's comment line, if any (read as plain text, never run)."""
-    for line in text.splitlines()[:10]:
-        if line.startswith(_OPTION_COMMENT):
-            value = line[len(_OPTION_COMMENT):].strip()
-            return value if value in COUPLINGS else None
-    return None
 
 
 def safe_upload_name(name: str) -> str:
@@ -228,9 +228,7 @@ def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_
                          "accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
     if not data:
         raise InputError("the file is empty", file=name)
-    path = Path(folder) / safe_upload_name(name)
-    path.write_bytes(data)
-    return path
+    return write_atomic(Path(folder) / safe_upload_name(name), data)
 
 
 def read_upload_scenario(folder: Path, name: str) -> tuple[Scenario, str | None]:
@@ -243,7 +241,7 @@ def read_upload_scenario(folder: Path, name: str) -> tuple[Scenario, str | None]
         raise InputError("the scenario file is not UTF-8 text", file=name, where=f"byte {exc.start}",
                          hint="save it as UTF-8") from exc
     sc = parse_scenario(text, file=name, base_dir=Path(folder), confine_to=Path(folder))
-    return sc, option_in_text(text)
+    return sc, sc.expansion.coupling if sc.expansion else None
 
 
 def sample_sites(root: Path) -> dict[str, Path]:

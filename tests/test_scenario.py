@@ -114,3 +114,15 @@ isc_a = 12.4
 rating_w = 3000
 """)
     assert sc.battery is None and sc.arrays == () and sc.expansion is None
+
+
+def test_expansion_costs_scale_per_panel_and_coupling_round_trips(tmp_path):
+    sc = load_scenario(SAMPLE)
+    e = sc.expansion
+    # cost_ac / cost_dc are for the expansion's own count: four panels instead of two cost twice as much.
+    assert e.priced_for(4).cost_ac == pytest.approx(2 * e.cost_ac)
+    assert e.priced_for(0).cost_dc == e.cost_dc
+    chosen = sc.replace(expansion=e.priced_for(3).__class__(**{**e.__dict__, "coupling": "dc"}))
+    save_scenario(chosen, tmp_path / "chosen.toml")
+    again = load_scenario(tmp_path / "chosen.toml")
+    assert again.expansion.coupling == "dc" and again == chosen
