@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import pytest
@@ -122,7 +123,7 @@ def test_expansion_costs_scale_per_panel_and_coupling_round_trips(tmp_path):
     # cost_ac / cost_dc are for the expansion's own count: four panels instead of two cost twice as much.
     assert e.priced_for(4).cost_ac == pytest.approx(2 * e.cost_ac)
     assert e.priced_for(0).cost_dc == e.cost_dc
-    chosen = sc.replace(expansion=e.priced_for(3).__class__(**{**e.__dict__, "coupling": "dc"}))
+    chosen = sc.replace(expansion=dataclasses.replace(e.priced_for(3), coupling="dc"))
     save_scenario(chosen, tmp_path / "chosen.toml")
     again = load_scenario(tmp_path / "chosen.toml")
     assert again.expansion.coupling == "dc" and again == chosen
