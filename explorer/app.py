@@ -22,11 +22,12 @@ ROOT = Path(__file__).resolve().parent.parent
 if str(ROOT) not in sys.path:  # `streamlit run explorer/app.py` puts explorer/ first on the path, not the root
     sys.path.insert(0, str(ROOT))
 
+from core.checks import run_checks  # noqa: E402
 from core.figures import headline_figures, secondary_figures  # noqa: E402
 from core.options import OPTION_LABELS, with_option  # noqa: E402
 from core.report_html import report_html  # noqa: E402
 from core.safety import SAFETY_CAUTIONS  # noqa: E402
-from explorer import adapters, caching, state  # noqa: E402
+from explorer import caching, state  # noqa: E402
 from explorer.guard import section  # noqa: E402
 from explorer.views import (  # noqa: E402
     baseload,
@@ -132,11 +133,8 @@ def main() -> None:
             sc = state.build_scenario(base, c)
             option_sc = with_option(sc, c.option)
             comparison = caching.comparison(sc)
-            if isinstance(comparison, adapters.Missing):
-                sim, baseline, econ = caching.simulation(option_sc), caching.simulation(sc), None
-            else:
-                chosen = comparison.options[c.option]
-                sim, baseline, econ = chosen.simulation, comparison.options["baseline"].simulation, chosen.economics
+            chosen = comparison.options[c.option]
+            sim, baseline, econ = chosen.simulation, comparison.options["baseline"].simulation, chosen.economics
             payback = None
             if econ is not None and c.count > 0:
                 payback = econ.simple_payback_years if econ.simple_payback_years is not None else math.inf
@@ -172,7 +170,7 @@ def main() -> None:
         sweep_view.render(sc, c, caching)
     found = None
     with tabs["Checks"], section("Design checks"):
-        found = adapters.checks(option_sc, sim, c.option, caching.orientation_cache(sc))
+        found = run_checks(option_sc, sim, cache=caching.orientation_cache(sc), option=c.option)
         checks.render(found)
     with tabs["Outages"], section("Grid outages"):
         outages.render(sim, baseline)
@@ -186,7 +184,7 @@ def main() -> None:
             return report_html(sim, baseline, option_label=OPTION_LABELS[c.option], headline=main_figures,
                                more=more, month=month, base_load_w=base_load,
                                options=options_table, verdict=verdict,
-                               checks=None if isinstance(found, adapters.Missing) else found,
+                               checks=found,
                                settings=settings_list(option_sc, c))
         report.render(sc, c.option, sim, make_report)
 

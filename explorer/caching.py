@@ -104,11 +104,6 @@ def _comparison(key: str, _sc: Scenario):
 
 def comparison(sc: Scenario):
     """Every applicable option of the scenario (its expansion's layout) against the existing system:
-    :func:`core.compare.compare` on the cached site and orientations, or :class:`explorer.adapters.Missing`."""
-    from explorer import adapters
-
-    mod = adapters.compare_module()
-    if isinstance(mod, adapters.Missing):
-        return mod
+    :func:`core.compare.compare` on the cached site and orientations."""
     return _comparison(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
                                                 "microinverters", "arrays", "grid", "expansion", "tariff")), sc)

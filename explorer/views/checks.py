@@ -7,7 +7,6 @@ import html
 import streamlit as st
 
 from core.figures import STATUS_COLOURS
-from explorer.adapters import Missing
 
 _WORD = {"pass": "PASS", "warn": "WARN", "fail": "FAIL"}
 _ORDER = {"fail": 0, "warn": 1, "pass": 2}
@@ -31,9 +30,6 @@ def line(c) -> str:
 
 
 def render(checks) -> None:
-    if isinstance(checks, Missing):
-        st.info(str(checks))
-        return
     if not checks:
         st.info("No design checks apply to this setting.")
         return

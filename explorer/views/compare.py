@@ -9,7 +9,7 @@ import streamlit as st
 
 from core.figures import fmt_kwh, fmt_pct, fmt_years
 from core.options import OPTION_LABELS
-from explorer import adapters, charts
+from explorer import charts
 
 #: (delta key, label) of the energy rows, kWh a year against the existing system.
 ENERGY_ROWS = (
@@ -61,9 +61,6 @@ def chart_frame(comparison) -> pd.DataFrame:
 
 def render(comparison, chosen: str):
     """Draw the comparison; returns (table for the report, verdict text) or (None, None)."""
-    if isinstance(comparison, adapters.Missing):
-        st.info(str(comparison))
-        return None, None
     if len(comparison.options) < 2:
         st.info("The scenario's [expansion] allows no option to compare.")
         return None, None

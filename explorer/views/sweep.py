@@ -8,7 +8,8 @@ import streamlit as st
 
 from core.figures import fmt_kwh
 from core.options import OPTION_LABELS
-from explorer import adapters, charts, state
+from core.sweep import sweep
+from explorer import charts, state
 
 #: A cell is marked "C" when the added curtailment and clipping exceed this share of the new panels' potential
 #: (a quarter: our own choice, to mark where the new panels mostly displace other PV), "X" when any uncontrolled
@@ -44,10 +45,6 @@ def heat_frame(table: pd.DataFrame, axis: str) -> pd.DataFrame:
 
 
 def render(sc, c: state.Controls, caching) -> None:
-    mod = adapters.sweep_module()
-    if isinstance(mod, adapters.Missing):
-        st.info(str(mod))
-        return
     if sc.expansion is None or c.option not in state.couplings(sc):
         st.info("The scenario's [expansion] allows no option to sweep.")
         return
@@ -76,7 +73,7 @@ def render(sc, c: state.Controls, caching) -> None:
         kwargs = {"counts": counts, "options": [c.option], "site": caching.site_data(sc),
                   "cache": caching.orientation_cache(sc), "progress": progress}
         kwargs["azimuths" if axis == "azimuth_deg" else "tilts"] = list(values)
-        table = mod.sweep(sc, **kwargs)
+        table = sweep(sc, **kwargs)
         bar.empty()
         stored = {"key": key, "table": table, "axis": axis}
         st.session_state["sweep_result"] = stored
