@@ -223,6 +223,35 @@ def _cmd_check(args) -> int:
     return EXIT_OK
 
 
+def _cmd_resolution(args) -> int:
+    from core.options import Layout, layout_of
+    from core.resolution import resolution_check
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    base = layout_of(sc)
+    layout = Layout(count=base.count if args.count is None else args.count,
+                    tilt_deg=base.tilt_deg if args.tilt is None else args.tilt,
+                    azimuth_deg=base.azimuth_deg if args.azimuth is None else args.azimuth)
+    progress = stderr_progress("resolution") if sys.stderr.isatty() else None
+    result = resolution_check(sc, args.option, layout, progress=progress)
+    if args.json:
+        print(json.dumps(result.to_dict(), indent=2))
+        return EXIT_OK
+    rows = [("AC-coupled surplus over the loads", "ac_surplus_kwh", "kWh"),
+            ("  in hours", "ac_surplus_hours", "h"), ("  largest step", "ac_surplus_peak_w", "W")]
+    print(f"{sc.name}: {result.option}, step {result.native_step_s} s against 3600 s\n")
+    print(f"{'':36}{'native':>10}{'hourly':>10}{'hidden':>10}")
+    for label, key, unit in rows:
+        print(f"{label + ' (' + unit + ')':36}{result.native_surplus[key]:>10.0f}{result.hourly_surplus[key]:>10.0f}"
+              f"{result.native_surplus[key] - result.hourly_surplus[key]:>10.0f}")
+    for key, label in (("exported_uncontrolled", "Uncontrolled export (kWh)"), ("curtailed", "Curtailed (kWh)")):
+        n, h = result.native.energy_kwh[key], result.hourly.energy_kwh[key]
+        print(f"{label:36}{n:>10.0f}{h:>10.0f}{n - h:>10.0f}")
+    print(f"\n{result.sentence}")
+    return EXIT_OK
+
+
 def _cmd_spacing(args) -> int:
     from core.checks.spacing import min_row_gap, parse_window
 
@@ -248,6 +277,7 @@ _EPILOG = {
                "--azimuth 255 --json",
     "check": "example:\n  python -m core check sample_sites/maple_hollow/scenario.toml",
     "spacing": "example:\n  python -m core spacing --latitude 41 --tilt 10 --length 1.7 --window 10-14 --json",
+    "resolution": "example:\n  python -m core resolution sample_sites/maple_hollow/scenario.toml --option ac_backed_up",
 }
 
 
@@ -288,6 +318,16 @@ def build_parser() -> argparse.ArgumentParser:
     p = add("check", "design checks with cautions for the existing system and each expansion option", _cmd_check)
     p.add_argument("scenario", help="scenario file (TOML)")
     p.add_argument("--json", action="store_true", help="print a JSON list of checks")
+
+    p = add("resolution", "what an hourly model hides: the same option at the load's own step and hourly",
+            _cmd_resolution)
+    p.add_argument("scenario", help="scenario file (TOML)")
+    p.add_argument("--option", choices=["ac_backed_up", "ac_grid", "dc"],
+                   help="the option to look at (default: the first AC-coupled one)")
+    p.add_argument("--count", type=int, help="panels added (default: the scenario's)")
+    p.add_argument("--tilt", type=float, help="tilt of the new panels, degrees")
+    p.add_argument("--azimuth", type=float, help="azimuth of the new panels, degrees (180 = south)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = add("spacing", "clear gap between tilted rows for no shading on the winter solstice", _cmd_spacing)
     p.add_argument("--latitude", type=float, required=True, help="degrees north (negative south)")

@@ -10,6 +10,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 
 from core.errors import InputError
@@ -32,6 +33,13 @@ class Layout:
     count: int
     tilt_deg: float
     azimuth_deg: float
+
+    def __post_init__(self) -> None:
+        for key, value, low, high in (("count", self.count, 0, 1000), ("tilt_deg", self.tilt_deg, 0, 90),
+                                      ("azimuth_deg", self.azimuth_deg, 0, 360)):
+            if not isinstance(value, int | float) or not math.isfinite(value) or not low <= value <= high:
+                raise InputError(f"{value!r} is outside {low}…{high}", where=key,
+                                 hint="panels added 0…1000, tilt 0…90°, azimuth 0…360° (180 = south)")
 
 
 def applicable_options(sc: Scenario) -> tuple[str, ...]:

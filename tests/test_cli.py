@@ -117,3 +117,13 @@ def test_inspect_load_json(capsys):
     assert {"span_days", "coverage_pct", "interval_s", "unit", "energy_kwh", "gaps_filled", "rows_rejected",
             "base_load_w"} <= set(d)
     assert d["interval_s"] == 900 and len(d["base_load_w"]) == 12
+
+
+def test_resolution_shows_what_an_hourly_model_hides(capsys):
+    # Maple Hollow's load is measured every 15 minutes: short surpluses average out within an hour, so the
+    # hourly model sees less AC-coupled surplus than the native step (never more).
+    assert main(["resolution", str(SAMPLE), "--option", "ac_backed_up", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["native_step_s"] == 900 and d["applicable"]
+    assert d["native_surplus"]["ac_surplus_kwh"] >= d["hourly_surplus"]["ac_surplus_kwh"]
+    assert main(["resolution", str(SAMPLE), "--count", "-1"]) == 2
