@@ -25,7 +25,7 @@ def solstice_sun(latitude: float, start_h: float = 10.0, end_h: float = 14.0):
     """Sun positions by pvlib's SPA on the winter solstice, one a minute over a window of *solar* time at
     longitude 0 (clock = solar time − equation of time, Spencer 1971 as in pvlib)."""
     day = "2023-12-21" if latitude >= 0 else "2023-06-21"
-    doy = pd.Timestamp(day).dayofyear
+    doy = pd.Timestamp(day).day_of_year
     eot_min = pvlib.solarposition.equation_of_time_spencer71(doy)
     solar = np.arange(start_h, end_h + 1e-9, 1 / 60)
     times = pd.Timestamp(day, tz="UTC") + pd.to_timedelta(solar - eot_min / 60.0, unit="h")
