@@ -19,12 +19,14 @@ Why the options differ (the conversion chains, each step losing a little):
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
 from core import economics as econ
+from core.checks import check_options
 from core.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
 from core.scenario import Scenario
 from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
@@ -45,10 +47,17 @@ class OptionResult:
     simulation: Simulation
     delta: dict[str, float]
     economics: econ.Economics | None
+    # Design checks whose outcome this option changes (for the baseline: the existing system's own).
+    checks: tuple = ()
+
+    @property
+    def failed(self) -> tuple:
+        return tuple(c for c in self.checks if c.status == "fail")
 
     def to_dict(self) -> dict:
         return {"label": self.label, "simulate": self.simulation.results.to_dict(), "delta": self.delta,
-                "economics": None if self.economics is None else self.economics.to_dict()}
+                "economics": None if self.economics is None else self.economics.to_dict(),
+                "checks": [c.to_dict() for c in self.checks]}
 
 
 @dataclass(frozen=True)
@@ -201,12 +210,18 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
     base = results["baseline"].simulation
     chains = conversion_chains(sc, base)
     leaking = [k for k in others if results[k].delta["exported_uncontrolled_kwh"] > EXPORT_EPS_KWH]
-    allowed = [k for k in others if k not in leaking] or others
+    # An option that leaks into the grid or fails a design check cannot win while another does neither.
+    failing = {k: [c for c in results[k].failed if c.id != "ac_coupling.uncontrolled_export"] for k in others}
+    blocked = [k for k in others if k in leaking or failing[k]]
+    allowed = [k for k in others if k not in blocked] or others
     for k in leaking:
         d = results[k].delta
         reasons.append(f"{OPTION_LABELS[k]} sends {d['exported_uncontrolled_kwh']:.0f} kWh into the grid uncontrolled "
                        f"in {d['exported_uncontrolled_hours']:.0f} hours of the year, which the connection forbids; "
                        "it needs an export limiter (which curtails instead) or fewer panels.")
+    for k in others:
+        for c in failing[k]:
+            reasons.append(f"{OPTION_LABELS[k]} fails a design check ({c.id}): {c.sentence}")
 
     def gain(k: str) -> float:
         return results[k].delta["to_loads_added_kwh"]
@@ -214,18 +229,21 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
     ranked = sorted(allowed, key=gain, reverse=True)
     energy = ranked[0]
     de = results[energy].delta
-    head = (f"On energy, {OPTION_LABELS[energy]} wins: the loads get {de['to_loads_added_kwh']:.0f} kWh a year more "
-            "from PV")
+    none_pass = all(k in blocked for k in others)
+    head = ("No option passes as it stands (each leaks into the grid or fails a design check; see below). "
+            "On energy, before any fix, " if none_pass else "On energy, ")
+    head += (f"{OPTION_LABELS[energy]} wins: the loads get {de['to_loads_added_kwh']:.0f} kWh a year more "
+             "from PV")
     if len(ranked) > 1:
         runner = ranked[1]
         diff = gain(energy) - gain(runner)
         head += (f", {diff:.0f} kWh more than {OPTION_LABELS[runner]}" if diff > TIE_KWH
                  else f", about the same as {OPTION_LABELS[runner]}")
     reasons.insert(0, head + ".")
-    better_but_leaking = [k for k in leaking if gain(k) > gain(energy) + TIE_KWH and energy not in leaking]
-    for k in reversed(better_but_leaking):
-        reasons.insert(1, f"{OPTION_LABELS[k]} would give the loads {gain(k):.0f} kWh, but not without uncontrolled "
-                          "export.")
+    better_but_blocked = [k for k in blocked if gain(k) > gain(energy) + TIE_KWH and energy not in blocked]
+    for k in reversed(better_but_blocked):
+        why_not = "without uncontrolled export" if k in leaking else "passing its design checks"
+        reasons.insert(1, f"{OPTION_LABELS[k]} would give the loads {gain(k):.0f} kWh, but not {why_not}.")
     # why: the conversion chains, and how much AC-coupled output was used as it was made
     ac_allowed = [k for k in allowed if k.startswith("ac_") and k not in leaking]
     if chains.ac_direct is not None and chains.dc_direct is not None:
@@ -257,7 +275,7 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
            else f"pays back in {m.simple_payback_years:.1f} years (discounted: "
                 + ("not within the period" if m.discounted_payback_years is None
                    else f"{m.discounted_payback_years:.1f} years") + ")")
-    reasons.append(f"On money, {OPTION_LABELS[money]} wins: it saves {m.annual_saving:.0f} {cur} in the first year "
+    reasons.append(f"On money,{' before any fix,' if none_pass else ''} {OPTION_LABELS[money]} wins: it saves {m.annual_saving:.0f} {cur} in the first year "
                    f"for {m.investment:.0f} {cur}, {pay}, with an NPV of {m.npv:.0f} {cur} over {m.years} years"
                    + (f" and an IRR of {_pct(m.irr)}." if m.irr is not None else "."))
     return Verdict(energy=energy, money=money, text=" ".join(reasons), reasons=tuple(reasons))
@@ -297,6 +315,10 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
                                        delta=delta, economics=economics)
     if progress:
         progress(1.0, "done")
+    # Design checks whose outcome each option changes; they can keep an option from winning.
+    found = check_options(sc, layout=layout, sims={k: r.simulation for k, r in results.items()}, site=site,
+                          cache=cache, options=tuple(results))
+    results = {k: dataclasses.replace(r, checks=tuple(found.get(k, ()))) for k, r in results.items()}
     verdict = (make_verdict(priced, results) if layout.count > 0 else
                Verdict(None, None, "No panels are added (a count of 0): every option is the existing system.", ()))
     return Comparison(scenario=sc, layout=layout, options=results, verdict=verdict)

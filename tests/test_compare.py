@@ -116,3 +116,24 @@ def test_layout_overrides_the_expansion_and_the_baseline_delta_is_zero():
     p2 = c2.options["ac_backed_up"].delta["expansion_potential_kwh"]
     assert p4 == approx(2 * p2)
     assert np.isfinite(c4.options["dc"].economics.npv)
+
+
+def test_an_option_that_fails_a_design_check_cannot_win():
+    # Maple Hollow's DC option puts two modules in series on a 48 V battery: in hot sun their Vmp falls below
+    # the battery voltage plus the controller's margin (common practice: such a string cannot charge), and its
+    # AC options leak into a zero-export grid without a limiter. No option passes; the verdict says why.
+    from pathlib import Path
+
+    from core.scenario import load_scenario
+
+    sc = load_scenario(Path(__file__).resolve().parents[1] / "sample_sites" / "maple_hollow" / "scenario.toml")
+    result = compare(sc)
+    assert [c.id for c in result.options["dc"].failed] == ["strings.vmp_hot"]
+    assert result.verdict.text.startswith("No option passes as it stands")
+    assert any("strings.vmp_hot" in r for r in result.verdict.reasons)
+    # With a limiter the AC options curtail instead of leaking, pass, and one of them wins.
+    limited = sc.replace(grid=dataclasses.replace(sc.grid, ac_export_control="limiter"))
+    result = compare(limited)
+    assert result.verdict.energy in ("ac_backed_up", "ac_grid")
+    assert result.verdict.text.startswith("On energy,")
+    assert "On money, " in result.verdict.text

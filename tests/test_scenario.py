@@ -26,7 +26,7 @@ def parse(text: str, tmp_path: Path):
 def test_sample_loads_with_its_sections():
     sc = load_scenario(SAMPLE)
     assert sc.arrays[0].coupling == "dc"
-    assert sc.arrays[0].module_count == 9
+    assert sc.arrays[0].module_count == 6
     assert sc.expansion is not None and sc.expansion.count == 2
     assert Path(sc.weather.path).is_absolute() and Path(sc.weather.path).exists()
 

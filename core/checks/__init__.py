@@ -94,7 +94,8 @@ def _same(a: Check, b: Check) -> bool:
 
 
 def check_options(sc: Scenario, *, layout=None, sims: dict | None = None, site=None, cache=None,
-                  progress: Callable[[float, str], None] | None = None) -> dict[str, list[Check]]:
+                  progress: Callable[[float, str], None] | None = None,
+                  options: tuple[str, ...] | None = None) -> dict[str, list[Check]]:
     """Checks for the existing system (``"baseline"``) and each applicable expansion option.
 
     An option's list keeps only the checks that differ from the existing system's (the new panels' own checks,
@@ -105,7 +106,7 @@ def check_options(sc: Scenario, *, layout=None, sims: dict | None = None, site=N
     from core.simulate import OrientationCache, prepare_site, simulate
 
     sims = dict(sims or {})
-    options = applicable_options(sc)
+    options = ["baseline", *(o for o in (options or applicable_options(sc)) if o != "baseline")]
     cache = cache if cache is not None else OrientationCache()
     if any(o not in sims for o in options) and site is None:
         site = prepare_site(sc)
