@@ -185,7 +185,7 @@ def _cmd_compare(args) -> int:
     if args.json:
         print(json.dumps(out, indent=2))
     else:
-        print(f"{sc.name}: {layout.count} panels at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
+        print(f"{sc.name}: {layout.count} panel{'s' if layout.count != 1 else ''} at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
         print(format_comparison(out))
     return EXIT_OK
 

@@ -65,14 +65,14 @@ def render(comparison, chosen: str):
         st.info("The scenario's [expansion] allows no option to compare.")
         return None, None
     lay = comparison.layout
-    st.markdown(f"**{lay.count} panels at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth**, each way of "
+    st.markdown(f"**{lay.count} panel{'s' if lay.count != 1 else ''} at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth**, each way of "
                 f"connecting them against the existing system. The sidebar's choice, "
                 f"*{OPTION_LABELS[chosen]}*, is the one in the headline figures.")
     v = comparison.verdict
     with st.container(border=True):
         st.markdown("**Verdict**")
         # the energy winner first and the money winner last are the answer; what lies between explains it
-        first, *why = v.reasons
+        first, *why = v.reasons or (v.text,)
         money = [r for r in why if r.startswith("On money")]
         why = [r for r in why if r not in money]
         st.markdown(first)
