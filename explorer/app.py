@@ -42,6 +42,7 @@ from explorer.views import (  # noqa: E402
     start,
 )
 from explorer.views import compare as compare_view  # noqa: E402
+from explorer.views import resolution as resolution_view  # noqa: E402
 from explorer.views import sweep as sweep_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
@@ -166,6 +167,8 @@ def main() -> None:
     options_table = verdict = None
     with tabs["Options"], section("Options side by side"):
         options_table, verdict = compare_view.render(comparison, c.option)
+    with tabs["Options"], section("Time resolution"):
+        resolution_view.render(sc, c.option)
     with tabs["Sweep"], section("Sweep"):
         sweep_view.render(sc, c, caching)
     found = None
