@@ -32,9 +32,7 @@ def check_output_path(path, sc, *, inputs: list[Path] = ()) -> Path:
     except (OSError, RuntimeError, ValueError) as exc:  # a name too long, a NUL character, a symlink loop
         raise InputError(f"cannot use this output path ({exc})", file=str(path)[:300],
                          hint="choose another name for the output") from None
-    for rel in (sc.weather.path, sc.load.path, sc.load.grid_only_path, sc.grid.outages_path):
-        if rel:
-            protected.add(sc.resolve(rel))
+    protected.update(sc.data_files().values())
     if target in protected:
         raise InputError("refusing to write over an input file", file=str(path),
                          hint="choose another name for the output")

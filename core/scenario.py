@@ -265,6 +265,11 @@ class Scenario:
                                  hint="keep data files in the same folder as the scenario file")
         return path
 
+    def data_files(self) -> dict[str, Path]:
+        """The data files the scenario names, as ``{"section.key": absolute path}``."""
+        return {f"{section}.{key}": self.resolve(value, f"{section}.{key}") for section, key in PATH_KEYS
+                if (value := getattr(getattr(self, section), key))}
+
     def replace(self, **changes: Any) -> Scenario:
         return dataclasses.replace(self, **changes)
 
@@ -476,7 +481,7 @@ def _absolute_paths(sc: Scenario) -> Scenario:
     """Store every file path resolved (and confinement-checked), so equal scenarios compare equal
     wherever their files were saved."""
     sections = {}
-    for section, key in _PATH_KEYS:
+    for section, key in PATH_KEYS:
         value = getattr(getattr(sc, section), key)
         if value is not None:
             resolved = str(sc.resolve(value, f"{section}.{key}"))
@@ -502,7 +507,8 @@ def load_scenario(path: str | os.PathLike, *, confine_to: Path | None = None) ->
     return parse_scenario(text, file=str(path), base_dir=path.parent.resolve(), confine_to=confine_to)
 
 
-_PATH_KEYS = {("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")}
+#: Where a scenario names data files: (section, key).
+PATH_KEYS = (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path"))
 
 
 def scenario_to_dict(sc: Scenario, *, relative_to: Path | None = None) -> dict:
@@ -520,7 +526,7 @@ def scenario_to_dict(sc: Scenario, *, relative_to: Path | None = None) -> dict:
     out = plain(sc)
     out = {"schema": out.pop("schema"), "name": out.pop("name"), **out}
     if relative_to is not None:
-        for section, key in _PATH_KEYS:
+        for section, key in PATH_KEYS:
             if section in out and key in out[section]:
                 target = (sc.base_dir / out[section][key]).resolve()
                 out[section][key] = Path(os.path.relpath(target, Path(relative_to).resolve())).as_posix()

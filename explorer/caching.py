@@ -31,14 +31,12 @@ def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> 
 def _stamps(sc: Scenario) -> dict:
     """Size and modification time of each data file, so that a file changed on disk is read again."""
     out = {}
-    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
-        value = getattr(getattr(sc, section), key)
-        if value:
-            try:
-                st_ = sc.resolve(value).stat()
-                out[f"{section}.{key}"] = (st_.st_size, st_.st_mtime_ns)
-            except (OSError, ValueError):
-                out[f"{section}.{key}"] = None  # the reader will say what is wrong
+    for name, path in sc.data_files().items():
+        try:
+            st_ = path.stat()
+            out[name] = (st_.st_size, st_.st_mtime_ns)
+        except (OSError, ValueError):
+            out[name] = None  # the reader will say what is wrong
     return out
 
 

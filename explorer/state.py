@@ -18,7 +18,7 @@ from pathlib import Path
 from core.errors import InputError
 from core.files import write_atomic
 from core.options import OPTION_LABELS, applicable_options, layout_of
-from core.scenario import RandomOutages, Scenario, parse_scenario, scenario_to_dict
+from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
 
 #: The couplings the explorer offers for the new panels (the options other than the existing system).
 COUPLINGS = ("ac_backed_up", "ac_grid", "dc")
@@ -175,12 +175,7 @@ def download_name(sc: Scenario, suffix: str, today: dt.date | None = None) -> st
 
 def data_files(sc: Scenario) -> list[Path]:
     """The data files a scenario names (absolute)."""
-    out = []
-    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
-        value = getattr(getattr(sc, section), key)
-        if value:
-            out.append(sc.resolve(value))
-    return out
+    return list(sc.data_files().values())
 
 
 def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -> str:
@@ -192,7 +187,7 @@ def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -
     import tomli_w
 
     table = scenario_to_dict(sc)
-    for section, key in (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path")):
+    for section, key in PATH_KEYS:
         if section in table and key in table[section]:
             table[section][key] = Path(table[section][key]).name
     names = ", ".join(p.name for p in data_files(sc)) or "none"
