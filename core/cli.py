@@ -72,14 +72,14 @@ def _cmd_simulate(args) -> int:
 
     sc = load_scenario(args.scenario)
     if args.steps_csv:  # refuse a bad output name before the year is simulated
-        from core.report import check_output_path
+        from core.present.report import check_output_path
 
         check_output_path(args.steps_csv, sc, inputs=[Path(args.scenario)])
     progress = stderr_progress("simulate") if sys.stderr.isatty() else None
     sim = simulate(sc, progress=progress)
     out = sim.results.to_dict()
     if args.steps_csv:
-        from core.report import write_steps_csv
+        from core.present.report import write_steps_csv
 
         write_steps_csv(sim, args.steps_csv, inputs=[Path(args.scenario)])
     if args.json:
@@ -91,7 +91,7 @@ def _cmd_simulate(args) -> int:
 
 
 def _cmd_inspect_load(args) -> int:
-    from core.loads import inspect_load_summary
+    from core.model.loads import inspect_load_summary
 
     summary = inspect_load_summary(args.file, timezone=args.timezone, unit=args.unit, column=args.column)
     if args.json:
@@ -103,7 +103,7 @@ def _cmd_inspect_load(args) -> int:
 
 
 def _layout_from_args(sc, args):
-    from core.options import Layout, layout_of
+    from core.analyses.options import Layout, layout_of
 
     base = layout_of(sc)
     count = base.count if args.count is None else args.count
@@ -171,7 +171,7 @@ def format_comparison(comparison: dict) -> str:
 
 
 def _cmd_compare(args) -> int:
-    from core.compare import compare
+    from core.analyses.compare import compare
     from core.scenario import load_scenario
 
     sc = load_scenario(args.scenario)
@@ -191,8 +191,8 @@ def _cmd_compare(args) -> int:
 
 
 def _cmd_check(args) -> int:
-    from core.checks import CAUTION_ESTIMATE, check_options
-    from core.compare import compare
+    from core.analyses.checks import CAUTION_ESTIMATE, check_options
+    from core.analyses.compare import compare
     from core.scenario import load_scenario
 
     sc = load_scenario(args.scenario)
@@ -205,7 +205,7 @@ def _cmd_check(args) -> int:
     if args.json:
         print(json.dumps([c.to_dict() for c in checks], indent=2))
         return EXIT_OK
-    from core.options import OPTION_LABELS
+    from core.analyses.options import OPTION_LABELS
 
     print(f"{sc.name}: design checks\n")
     marks = {"pass": "ok  ", "warn": "WARN", "fail": "FAIL"}
@@ -224,8 +224,8 @@ def _cmd_check(args) -> int:
 
 
 def _cmd_resolution(args) -> int:
-    from core.options import Layout, layout_of
-    from core.resolution import resolution_check
+    from core.analyses.options import Layout, layout_of
+    from core.analyses.resolution import resolution_check
     from core.scenario import load_scenario
 
     sc = load_scenario(args.scenario)
@@ -253,7 +253,7 @@ def _cmd_resolution(args) -> int:
 
 
 def _cmd_spacing(args) -> int:
-    from core.checks.spacing import min_row_gap, parse_window
+    from core.analyses.checks.spacing import min_row_gap, parse_window
 
     window = parse_window(args.window)
     gap = min_row_gap(args.latitude, args.tilt, args.length, azimuth_deg=args.azimuth, window_h=window)

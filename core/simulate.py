@@ -16,13 +16,13 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from core import conversion, dispatch, metrics, outages, pv, solar
-from core import weather as weather_io
 from core.errors import InputError
-from core.loads import build_year, read_load_csv
+from core.model import conversion, dispatch, metrics, outages, pv, solar
+from core.model import weather as weather_io
+from core.model.loads import build_year, read_load_csv
+from core.model.weather_monthly import monthly_weather
 from core.scenario import Array, Scenario
 from core.timebase import nominal_index, standard_offset
-from core.weather_monthly import monthly_weather
 
 
 @dataclass(frozen=True)

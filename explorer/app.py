@@ -22,11 +22,11 @@ ROOT = Path(__file__).resolve().parent.parent
 if str(ROOT) not in sys.path:  # `streamlit run explorer/app.py` puts explorer/ first on the path, not the root
     sys.path.insert(0, str(ROOT))
 
-from core.checks import run_checks  # noqa: E402
-from core.figures import headline_figures, secondary_figures  # noqa: E402
-from core.options import OPTION_LABELS, with_option  # noqa: E402
-from core.report_html import report_html  # noqa: E402
-from core.safety import SAFETY_CAUTIONS  # noqa: E402
+from core.analyses.checks import run_checks  # noqa: E402
+from core.analyses.options import OPTION_LABELS, with_option  # noqa: E402
+from core.present.figures import headline_figures, secondary_figures  # noqa: E402
+from core.present.report_html import report_html  # noqa: E402
+from core.present.safety import SAFETY_CAUTIONS  # noqa: E402
 from explorer import caching, state  # noqa: E402
 from explorer.guard import section  # noqa: E402
 from explorer.views import (  # noqa: E402

@@ -95,13 +95,13 @@ def daytime_base_load(sc: Scenario, option: str) -> list[float]:
 
 @st.cache_resource(max_entries=48, show_spinner=False)
 def _comparison(key: str, _sc: Scenario):
-    from core.compare import compare
+    from core.analyses.compare import compare
 
     return compare(_sc, site=site_data(_sc), cache=orientation_cache(_sc))
 
 
 def comparison(sc: Scenario):
     """Every applicable option of the scenario (its expansion's layout) against the existing system:
-    :func:`core.compare.compare` on the cached site and orientations."""
+    :func:`core.analyses.compare.compare` on the cached site and orientations."""
     return _comparison(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
                                                 "microinverters", "arrays", "grid", "expansion", "tariff")), sc)

@@ -1,7 +1,7 @@
-"""Altair chart builders: pure functions from a small tidy table (see :mod:`core.figures`) to a chart.
+"""Altair chart builders: pure functions from a small tidy table (see :mod:`core.present.figures`) to a chart.
 
 Every chart has a title that says what it answers, units on its axes and a legend in words. Colours come from
-:mod:`core.figures` (Okabe–Ito, colour-blind safe), shared with the HTML report.
+:mod:`core.present.figures` (Okabe–Ito, colour-blind safe), shared with the HTML report.
 """
 
 from __future__ import annotations
@@ -9,8 +9,8 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
-from core import figures as palette
-from core.figures import MONTH_NAMES
+from core.present import figures as palette
+from core.present.figures import MONTH_NAMES
 
 WIDTH = "container"
 HEIGHT = 430

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from core.loads import base_load_w
+from core.model.loads import base_load_w
 from core.scenario import Scenario
 
 

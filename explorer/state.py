@@ -15,9 +15,9 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
+from core.analyses.options import OPTION_LABELS, applicable_options, layout_of
 from core.errors import InputError
 from core.files import write_atomic
-from core.options import OPTION_LABELS, applicable_options, layout_of
 from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
 
 #: The couplings the explorer offers for the new panels (the options other than the existing system).

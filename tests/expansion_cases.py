@@ -13,8 +13,8 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from core import solar
-from core import weather as weather_io
+from core.model import solar
+from core.model import weather as weather_io
 from core.scenario import parse_scenario
 from core.simulate import SiteData
 

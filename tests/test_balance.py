@@ -3,8 +3,8 @@
 module DC potential + grid import
   = loads served + export + curtailed + clipped + conversion losses + battery losses + ΔE_stored
 
-The identity is written out here from the per-step flows, independently of core.metrics, and the
-year figure from core.metrics is checked against it too.
+The identity is written out here from the per-step flows, independently of core.model.metrics, and the
+year figure from core.model.metrics is checked against it too.
 """
 
 from __future__ import annotations
@@ -14,9 +14,9 @@ import pandas as pd
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.conversion import controller_output, inverter_curve, microinverter_output
-from core.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch
-from core.metrics import summarise
+from core.model.conversion import controller_output, inverter_curve, microinverter_output
+from core.model.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch
+from core.model.metrics import summarise
 
 STEPS = 96
 
@@ -82,7 +82,7 @@ def test_energy_identity_holds_every_step_and_for_the_year(case):
     assert np.all(f["load_served_w"] + f["unserved_w"]
                   <= inputs.load_backed_w + inputs.load_grid_w + 1e-6)
 
-    # The year's balance error as core.metrics reports it agrees.
+    # The year's balance error as core.model.metrics reports it agrees.
     index = pd.date_range("2023-06-01", periods=STEPS, freq=pd.Timedelta(hours=p.dt_h), tz="UTC")
     steps = pd.DataFrame({name: f[name] for name in FLOWS}, index=index).assign(
         load_backed_w=inputs.load_backed_w, load_grid_w=inputs.load_grid_w, grid_up=inputs.grid_up,

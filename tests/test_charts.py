@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core import figures
+from core.present import figures
 from explorer import charts
 
 

@@ -9,14 +9,14 @@ import pandas as pd
 import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
-from core.checks import run_checks
-from core.checks.ac_coupling import (
+from core.analyses.checks import run_checks
+from core.analyses.checks.ac_coupling import (
     ac_coupled_rating_w,
     ac_coupling_checks,
     charger_absorption_limit_w,
     worst_ac_surplus_w,
 )
-from core.options import Layout, with_option
+from core.analyses.options import Layout, with_option
 from core.simulate import simulate
 
 approx = pytest.approx

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from expansion_cases import hand_scenario
 
-from core.checks.frequency_watt import (
+from core.analyses.checks.frequency_watt import (
     PRESETS,
     frequency_for_reduction_hz,
     frequency_watt_checks,
@@ -16,7 +16,7 @@ from core.checks.frequency_watt import (
     output_fraction,
     required_reduction,
 )
-from core.options import with_option
+from core.analyses.options import with_option
 
 approx = pytest.approx
 IEEE = PRESETS["ieee1547_2018"]

@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
-from core.checks import run_checks
-from core.checks.clipping import clipping_checks, controller_clipping
-from core.checks.common import DesignTemperatures
-from core.checks.microinverter import microinverter_checks
-from core.options import Layout, with_option
+from core.analyses.checks import run_checks
+from core.analyses.checks.clipping import clipping_checks, controller_clipping
+from core.analyses.checks.common import DesignTemperatures
+from core.analyses.checks.microinverter import microinverter_checks
+from core.analyses.options import Layout, with_option
 from core.simulate import simulate
 
 approx = pytest.approx

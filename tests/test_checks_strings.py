@@ -7,8 +7,8 @@ import dataclasses
 import pvlib
 import pytest
 
-from core.checks.common import DesignTemperatures, design_temperatures
-from core.checks.strings import (
+from core.analyses.checks.common import DesignTemperatures, design_temperatures
+from core.analyses.checks.strings import (
     nec_table_factor,
     pv_circuit_current_a,
     string_checks,

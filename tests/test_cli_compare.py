@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from core.checks.spacing import min_row_gap
+from core.analyses.checks.spacing import min_row_gap
 from core.cli import main
 
 approx = pytest.approx

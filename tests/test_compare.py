@@ -14,9 +14,9 @@ import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
 import core.simulate
-from core.checks import run_checks
-from core.compare import compare
-from core.options import Layout
+from core.analyses.checks import run_checks
+from core.analyses.compare import compare
+from core.analyses.options import Layout
 
 approx = pytest.approx
 ETA_MICRO, ETA_CTRL, ETA_INV = 0.965, 0.97, 0.94

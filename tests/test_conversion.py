@@ -6,7 +6,7 @@ import numpy as np
 import pvlib
 import pytest
 
-from core.conversion import controller_output, efficiency_at, inverter_curve, microinverter_output
+from core.model.conversion import controller_output, efficiency_at, inverter_curve, microinverter_output
 
 
 def test_part_load_curve_follows_pvwatts_inverter_model():

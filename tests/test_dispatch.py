@@ -12,8 +12,8 @@ import dataclasses
 import numpy as np
 import pytest
 
-from core.conversion import inverter_curve
-from core.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch
+from core.model.conversion import inverter_curve
+from core.model.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch
 
 ETA = 0.9
 

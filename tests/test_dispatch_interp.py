@@ -10,8 +10,8 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-from core.conversion import inverter_curve
-from core.dispatch import _interp
+from core.model.conversion import inverter_curve
+from core.model.dispatch import _interp
 
 
 @numba.njit

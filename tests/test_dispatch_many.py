@@ -15,8 +15,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.conversion import inverter_curve
-from core.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch, dispatch_many
+from core.model.conversion import inverter_curve
+from core.model.dispatch import FLOWS, DispatchInputs, DispatchParams, dispatch, dispatch_many
 
 SOURCE_KEYS = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
 

@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.economics import appraise, irr, npv, payback_months
+from core.model.economics import appraise, irr, npv, payback_months
 
 approx = pytest.approx
 

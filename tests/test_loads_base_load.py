@@ -1,4 +1,4 @@
-"""Base-load estimate (core/loads/base_load.py) on invented series with a known floor.
+"""Base-load estimate (core/model/loads/base_load.py) on invented series with a known floor.
 
 The day/night split by sun position is checked against pvlib's NREL SPA implementation
 (``pvlib.solarposition.get_solarposition``, Reda & Andreas 2004) as the reference for polar night and
@@ -12,7 +12,7 @@ import pandas as pd
 import pytest
 from pvlib import solarposition
 
-from core.loads import base_load_w
+from core.model.loads import base_load_w
 
 TZ = "Etc/GMT-1"  # UTC+01:00 all year
 

@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from core.errors import InputError
-from core.loads import read_load_csv
+from core.model.loads import read_load_csv
 
 CORPUS = Path(__file__).parent / "data" / "loads"
 MANIFEST = json.loads((CORPUS / "manifest.json").read_text())["files"]

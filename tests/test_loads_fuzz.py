@@ -15,7 +15,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from core.errors import InputError
-from core.loads import read_load_csv
+from core.model.loads import read_load_csv
 
 TIMES = st.sampled_from(["2024-03-31 01:45", "2024-03-31 02:15", "2024-10-27 02:30", "31.12.2023 23:59",
                          "03/10/2024 02:00 AM", "2024-06-01T12:00:00+02:00", "2024-06-01T10:00:00Z",

@@ -15,8 +15,8 @@ import pandas as pd
 import pytest
 
 from core.errors import InputError
-from core.loads import inspect_load_summary, read_load_csv
-from core.loads.units import decide_unit, header_unit
+from core.model.loads import inspect_load_summary, read_load_csv
+from core.model.loads.units import decide_unit, header_unit
 
 
 def true_power_w(t_s: np.ndarray) -> np.ndarray:

@@ -1,4 +1,4 @@
-"""Building the nominal year from a measured load record (method: core/loads/year_builder.py docstring).
+"""Building the nominal year from a measured load record (method: core/model/loads/year_builder.py docstring).
 
 The records are invented here with known monthly totals, so the bill checks are by construction; calendar
 facts (weekdays, leap days, month lengths) come from Python's datetime and pandas as the reference.
@@ -13,7 +13,7 @@ import pandas as pd
 import pytest
 
 from core.errors import InputError
-from core.loads import build_year, load_year
+from core.model.loads import build_year, load_year
 from core.timebase import NOMINAL_YEAR, nominal_index
 
 SITE_TZ = dt.timezone(dt.timedelta(hours=1))  # a site on UTC+01:00 standard time

@@ -11,8 +11,8 @@ import numpy as np
 import pvlib
 from expansion_cases import hand_scenario, synthetic_site
 
-from core import pv
-from core.options import Layout, with_option
+from core.analyses.options import Layout, with_option
+from core.model import pv
 from core.simulate import OrientationCache
 
 

@@ -8,7 +8,7 @@ import pvlib
 import pytest
 
 from core.errors import InputError
-from core.pv import (
+from core.model.pv import (
     cell_temperature,
     effective_irradiance,
     module_dc_power_w,
@@ -16,8 +16,8 @@ from core.pv import (
     module_voltages,
     poa_irradiance,
 )
-from core.solar import solar_geometry
-from core.weather import read_weather_file
+from core.model.solar import solar_geometry
+from core.model.weather import read_weather_file
 
 PVLIB_DATA = pathlib.Path(pvlib.__file__).parent / "data"
 

@@ -11,8 +11,8 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from core import figures, report_html
-from core.options import with_option
+from core.analyses.options import with_option
+from core.present import figures, report_html
 from core.scenario import load_scenario
 from core.simulate import OrientationCache, prepare_site, simulate
 
@@ -88,7 +88,7 @@ def test_every_svg_is_well_formed_with_a_title(sims):
 
 
 def test_options_table_verdict_and_checks_appear(sims):
-    from core.checks.common import Check
+    from core.analyses.checks.common import Check
 
     checks = [Check("strings.voc_cold", "fail", 162.0, 150.0, "V", "Too many modules in series for the cold.",
                     "NFPA 70 (NEC) 690.7(A)(1)", caution="DC strings can arc."),

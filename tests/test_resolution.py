@@ -7,8 +7,8 @@ import numpy as np
 import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
-from core.options import Layout, with_option
-from core.resolution import ac_surplus, compare_resolutions, resolution_check
+from core.analyses.options import Layout, with_option
+from core.analyses.resolution import ac_surplus, compare_resolutions, resolution_check
 
 approx = pytest.approx
 

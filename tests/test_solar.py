@@ -8,7 +8,7 @@ import pvlib
 import pytest
 
 from core.errors import InputError
-from core.solar import solar_geometry, sun_position
+from core.model.solar import solar_geometry, sun_position
 from core.timebase import nominal_index
 
 

@@ -9,7 +9,7 @@ import pandas as pd
 import pvlib
 import pytest
 
-from core.checks.spacing import (
+from core.analyses.checks.spacing import (
     annual_shading_loss,
     min_row_gap,
     parse_window,
@@ -88,13 +88,13 @@ def test_pitch_is_gap_plus_row_depth_and_flat_rows_need_no_gap():
 
 def test_annual_shading_loss_with_greensboro_tmy3():
     # pvlib's shipped NREL TMY3 file for Greensboro NC (36.1° N) as the year's weather.
-    from core.solar import solar_geometry
-    from core.weather import read_weather_file
+    from core.model.solar import solar_geometry
+    from core.model.weather import read_weather_file
 
     path = pathlib.Path(pvlib.__file__).parent / "data" / "723170TYA.CSV"
     w = read_weather_file(path, fmt="tmy3", tz="Etc/GMT+5")
     geo = solar_geometry(w.data.index, 36.1, -79.9, 270.0)
-    from core.pv import poa_irradiance
+    from core.model.pv import poa_irradiance
 
     poa = poa_irradiance(w.data, geo, 10.0, 180.0)
     rule = min_row_gap(36.1, 10.0, 1.7)
@@ -126,8 +126,8 @@ def test_spacing_check_on_an_array_with_a_row_pitch():
 
     from expansion_cases import hand_scenario, synthetic_site
 
-    from core.checks import run_checks
-    from core.options import with_option
+    from core.analyses.checks import run_checks
+    from core.analyses.options import with_option
     from core.simulate import simulate
 
     site = synthetic_site(days=1)

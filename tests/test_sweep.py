@@ -7,9 +7,9 @@ import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
 import core.simulate
-from core.compare import compare
-from core.options import Layout
-from core.sweep import COLUMNS, sweep
+from core.analyses.compare import compare
+from core.analyses.options import Layout
+from core.analyses.sweep import COLUMNS, sweep
 
 approx = pytest.approx
 

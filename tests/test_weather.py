@@ -11,8 +11,8 @@ import pvlib
 import pytest
 
 from core.errors import InputError
+from core.model.weather import interpolate_weather, read_weather_file, timezone_for
 from core.timebase import NOMINAL_YEAR, nominal_index, standard_offset
-from core.weather import interpolate_weather, read_weather_file, timezone_for
 
 PVLIB_DATA = pathlib.Path(pvlib.__file__).parent / "data"
 GREENSBORO = PVLIB_DATA / "723170TYA.CSV"  # NREL TMY3, Greensboro NC, shipped with pvlib

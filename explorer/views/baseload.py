@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import streamlit as st
 
-from core.figures import (
+from core.present.figures import (
     MONTH_FULL_NAMES,
     ac_surplus_duration,
     fmt_hours,

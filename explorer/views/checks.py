@@ -6,7 +6,7 @@ import html
 
 import streamlit as st
 
-from core.figures import STATUS_COLOURS
+from core.present.figures import STATUS_COLOURS
 
 _WORD = {"pass": "PASS", "warn": "WARN", "fail": "FAIL"}
 _ORDER = {"fail": 0, "warn": 1, "pass": 2}

@@ -7,8 +7,8 @@ import math
 import pandas as pd
 import streamlit as st
 
-from core.figures import fmt_kwh, fmt_pct, fmt_years
-from core.options import OPTION_LABELS
+from core.analyses.options import OPTION_LABELS
+from core.present.figures import fmt_kwh, fmt_pct, fmt_years
 from explorer import charts
 
 #: (delta key, label) of the energy rows, kWh a year against the existing system.

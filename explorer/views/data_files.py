@@ -137,7 +137,7 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
 @st.cache_data(max_entries=16, show_spinner=False)
 def _inspect_load(path: str, timezone: str, unit: str | None, column: str | None, latitude: float,
                   longitude: float) -> dict:
-    from core.loads import inspect_load_summary
+    from core.model.loads import inspect_load_summary
 
     return inspect_load_summary(path, timezone=timezone, unit=unit, column=column, latitude=latitude,
                                 longitude=longitude)
@@ -145,7 +145,7 @@ def _inspect_load(path: str, timezone: str, unit: str | None, column: str | None
 
 @st.cache_resource(max_entries=8, show_spinner=False)
 def _read_weather(path: str, timezone: str, latitude: float, longitude: float, altitude_m: float):
-    from core.weather import read_weather_file
+    from core.model.weather import read_weather_file
 
     return read_weather_file(path, tz=standard_offset(timezone), latitude=latitude, longitude=longitude,
                              altitude_m=altitude_m)

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import streamlit as st
 
-from core.figures import MONTH_FULL_NAMES, fmt_w, typical_day
+from core.present.figures import MONTH_FULL_NAMES, fmt_w, typical_day
 from explorer import charts
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from core.figures import DESTINATIONS, MONTH_NAMES, pv_destinations_by_month
+from core.present.figures import DESTINATIONS, MONTH_NAMES, pv_destinations_by_month
 from explorer import charts
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from core.figures import Headline, fmt_value
+from core.present.figures import Headline, fmt_value
 
 
 def _negligible(h: Headline) -> bool:

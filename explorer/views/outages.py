@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from core.figures import fmt_hours, fmt_kwh, fmt_pct, outage_events
+from core.present.figures import fmt_hours, fmt_kwh, fmt_pct, outage_events
 from explorer import charts
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from core.report import steps_csv_text
+from core.present.report import steps_csv_text
 from explorer import state
 
 

@@ -1,12 +1,12 @@
-"""What an hourly model hides: the chosen option at the load's own step and hourly (core.resolution)."""
+"""What an hourly model hides: the chosen option at the load's own step and hourly (core.analyses.resolution)."""
 
 from __future__ import annotations
 
 import pandas as pd
 import streamlit as st
 
-from core.options import OPTION_LABELS, layout_of
-from core.resolution import resolution_check
+from core.analyses.options import OPTION_LABELS, layout_of
+from core.analyses.resolution import resolution_check
 
 
 def table(result) -> pd.DataFrame:

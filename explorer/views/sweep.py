@@ -6,9 +6,9 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from core.figures import fmt_kwh
-from core.options import OPTION_LABELS
-from core.sweep import sweep
+from core.analyses.options import OPTION_LABELS
+from core.analyses.sweep import sweep
+from core.present.figures import fmt_kwh
 from explorer import charts, state
 
 #: A cell is marked "C" when the added curtailment and clipping exceed this share of the new panels' potential

@@ -40,8 +40,8 @@ def _rss_peak_mb() -> float:
 def _tiny_case(n: int = 48):
     import numpy as np
 
-    from core.conversion import inverter_curve
-    from core.dispatch import DispatchInputs, DispatchParams
+    from core.model.conversion import inverter_curve
+    from core.model.dispatch import DispatchInputs, DispatchParams
 
     rng = np.random.default_rng(0)
     curve = inverter_curve(3000.0, 0.93)
@@ -61,7 +61,7 @@ def warm_engine() -> None:
     """Call both compiled entry points once (compile or load from the disk cache)."""
     import numpy as np
 
-    from core.dispatch import dispatch, dispatch_many
+    from core.model.dispatch import dispatch, dispatch_many
 
     inputs, params = _tiny_case()
     dispatch(inputs, params)
@@ -74,7 +74,7 @@ def first_calls() -> dict:
     t = time.perf_counter()
     import numpy as np
 
-    from core.dispatch import dispatch, dispatch_many
+    from core.model.dispatch import dispatch, dispatch_many
     t_import = time.perf_counter() - t
     inputs, params = _tiny_case()
     t = time.perf_counter()
@@ -91,7 +91,7 @@ def first_calls() -> dict:
 def year(step_s: int, scenario_path: str) -> dict:
     import dataclasses
 
-    from core.options import with_option
+    from core.analyses.options import with_option
     from core.scenario import load_scenario
     from core.simulate import OrientationCache, prepare_site, simulate
 
@@ -114,9 +114,10 @@ def page_update(sc, count: int, site, cache, option: str = "ac_backed_up"):
     """What ``core`` does for the explorer's page when the panel-count slider moves (the page's own caches
     keep the site and the orientations): every option side by side, the figures and tables the views draw,
     and the design checks of the chosen option."""
-    from core.checks import run_checks
-    from core.compare import compare
-    from core.figures import (
+    from core.analyses.checks import run_checks
+    from core.analyses.compare import compare
+    from core.analyses.options import Layout, with_option
+    from core.present.figures import (
         ac_surplus_duration,
         headline_figures,
         outage_events,
@@ -124,7 +125,6 @@ def page_update(sc, count: int, site, cache, option: str = "ac_backed_up"):
         surplus_by_month_hour,
         typical_day,
     )
-    from core.options import Layout, with_option
 
     e = sc.expansion
     layout = Layout(count, e.tilt_deg, e.azimuth_deg)
@@ -150,7 +150,7 @@ def profile(what: str, scenario_path: str, top: int = 25) -> str:
     import io
     import pstats
 
-    from core.options import with_option
+    from core.analyses.options import with_option
     from core.scenario import load_scenario
     from core.simulate import OrientationCache, prepare_site, simulate
 

@@ -3,8 +3,8 @@
 Per scenario, every array gets a fresh :class:`pvlib.modelchain.ModelChain` run configured like our chain
 (PVWatts DC, SAPM cell temperature with the mount's parameter set, Perez transposition, physical AOI
 modifier, no spectral or lumped losses in pvlib; the array's ``losses_pct`` applied afterwards), then the
-project's converter rules (``core.conversion``) and the project's dispatch rules as a plain Python loop
-over the steps (``core.dispatch.dispatch(..., compiled=False)``), then the year's totals with numpy.
+project's converter rules (``core.model.conversion``) and the project's dispatch rules as a plain Python loop
+over the steps (``core.model.dispatch.dispatch(..., compiled=False)``), then the year's totals with numpy.
 
 What is shared between scenarios is what a hand-written study would also read only once: the weather
 table, the loads, the outage mask and the site's location (``Shared``, built from ``prepare_site``).
@@ -23,7 +23,7 @@ from pvlib.modelchain import ModelChain
 from pvlib.pvsystem import Array as PvlibArray
 from pvlib.pvsystem import FixedMount, PVSystem
 
-from core import conversion, dispatch, pv
+from core.model import conversion, dispatch, pv
 from core.scenario import Array, Scenario
 from core.simulate import SiteData, dispatch_params
 

@@ -40,12 +40,12 @@ import pytest
 from bench_child import page_update, warm_engine
 from bench_reference import reference_year, shared_inputs
 
-from core.compare import compare
-from core.dispatch import dispatch
-from core.options import Layout, with_option
+from core.analyses.compare import compare
+from core.analyses.options import Layout, with_option
+from core.analyses.sweep import sweep
+from core.model.dispatch import dispatch
 from core.scenario import load_scenario
 from core.simulate import OrientationCache, prepare_site, run, simulate, source_power
-from core.sweep import sweep
 
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parents[1]
@@ -235,7 +235,7 @@ def test_benchmark():
         ("sweep, 500 scenarios", f"{sweep_s:.2f} s", "site, 25 orientations, converters, batched engine, figures"),
         ("  per scenario", f"{sweep_per * 1000:.2f} ms", _verdict("sweep_ratio", sweep_ratio)),
         ("count change, warm caches", f"{slider_s * 1000:.1f} ms", _verdict("slider_ratio", slider_ratio)),
-        ("  every option side by side", f"{compare_s * 1000:.0f} ms", "core.compare, all four options"),
+        ("  every option side by side", f"{compare_s * 1000:.0f} ms", "core.analyses.compare, all four options"),
         ("  the page's core work", f"{page_s * 1000:.0f} ms", "compare, headline figures, day and surplus "
          "tables, outages, design checks"),
         ("  tilt change (new orientation)", f"{statistics.median(tilt_moves) * 1000:.0f} ms",

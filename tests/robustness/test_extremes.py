@@ -16,14 +16,14 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from core.checks import run_checks
+from core.analyses.checks import run_checks
 from core.errors import InputError
-from core.loads import build_year, read_load_csv
-from core.loads.decode import MAX_FILE_BYTES
+from core.model.loads import build_year, read_load_csv
+from core.model.loads.decode import MAX_FILE_BYTES
+from core.model.weather import read_weather_file
 from core.scenario import parse_scenario
 from core.simulate import simulate
 from core.timebase import MIN_STEP_S, nominal_index
-from core.weather import read_weather_file
 
 from .common import (
     BATTERY,

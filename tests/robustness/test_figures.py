@@ -27,11 +27,11 @@ from pathlib import Path
 
 import pytest
 
-from core.loads import read_load_csv
-from core.outages import read_outages_csv
+from core.model.loads import read_load_csv
+from core.model.outages import read_outages_csv
+from core.model.weather import read_weather_file
 from core.scenario import load_scenario
 from core.simulate import simulate
-from core.weather import read_weather_file
 
 from . import fuzzcases as fz
 from .common import (

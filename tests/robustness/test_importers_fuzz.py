@@ -18,9 +18,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from core.errors import InputError
-from core.loads import read_load_csv
-from core.outages import read_outages_csv
-from core.weather import read_weather_file
+from core.model.loads import read_load_csv
+from core.model.outages import read_outages_csv
+from core.model.weather import read_weather_file
 
 from . import fuzzcases as fz
 from .common import PVLIB_TMY2, PVLIB_TMY3, names_place

@@ -15,10 +15,10 @@ import pytest
 import tomli_w
 
 from core.errors import InputError
-from core.loads import read_load_csv
-from core.outages import read_outages_csv
+from core.model.loads import read_load_csv
+from core.model.outages import read_outages_csv
+from core.model.weather import read_weather_file
 from core.scenario import parse_scenario
-from core.weather import read_weather_file
 
 from . import fuzzcases as fz
 from .common import PVLIB_TMY3, SAMPLES

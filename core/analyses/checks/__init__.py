@@ -16,9 +16,9 @@ from collections.abc import Callable
 
 import numpy as np
 
-from core.checks.ac_coupling import ac_coupling_checks
-from core.checks.clipping import clipping_checks
-from core.checks.common import (
+from core.analyses.checks.ac_coupling import ac_coupling_checks
+from core.analyses.checks.clipping import clipping_checks
+from core.analyses.checks.common import (
     CAUTION_AC,
     CAUTION_BATTERY,
     CAUTION_DC,
@@ -30,10 +30,10 @@ from core.checks.common import (
     design_temperatures,
     worst,
 )
-from core.checks.frequency_watt import frequency_watt_checks
-from core.checks.microinverter import microinverter_checks
-from core.checks.spacing import spacing_checks
-from core.checks.strings import string_checks
+from core.analyses.checks.frequency_watt import frequency_watt_checks
+from core.analyses.checks.microinverter import microinverter_checks
+from core.analyses.checks.spacing import spacing_checks
+from core.analyses.checks.strings import string_checks
 from core.errors import InputError
 from core.scenario import Scenario
 
@@ -100,9 +100,9 @@ def check_options(sc: Scenario, *, layout=None, sims: dict | None = None, site=N
 
     An option's list keeps only the checks that differ from the existing system's (the new panels' own checks,
     and system checks whose outcome they change). ``sims`` maps options to their simulations (for example from
-    :func:`core.compare.compare`); missing ones are simulated here, sharing ``site`` and ``cache``.
+    :func:`core.analyses.compare.compare`); missing ones are simulated here, sharing ``site`` and ``cache``.
     """
-    from core.options import applicable_options, with_option
+    from core.analyses.options import applicable_options, with_option
     from core.simulate import OrientationCache, prepare_site, simulate
 
     sims = dict(sims or {})

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import math
 
-from core.checks.common import (
+from core.analyses.checks.common import (
     CAUTION_BATTERY,
     CAUTION_DC,
     Check,

@@ -22,7 +22,7 @@ import pvlib
 from core.errors import InputError
 
 if TYPE_CHECKING:  # the geometry is passed in; only its attributes are used
-    from core.solar import SolarGeometry
+    from core.model.solar import SolarGeometry
 
 #: Mount name -> SAPM temperature-model parameter set (King et al. 2004, SAND2004-3535, Table 1, as shipped in
 #: ``pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"]``). "rack": an open rack with free air flow behind

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core.checks.common import CAUTION_BATTERY, CAUTION_MICRO, Check
+from core.analyses.checks.common import CAUTION_BATTERY, CAUTION_MICRO, Check
 from core.scenario import Microinverter, Scenario
 
 #: Output (as a share of the rating) below which a microinverter counts as not producing (our own choice).
@@ -93,7 +93,7 @@ def frequency_watt_checks(sc: Scenario, sim=None) -> list[Check]:
     backed = [a for a in sc.arrays if a.coupling == "ac" and a.side == "backed_up" and a.module_count > 0]
     if not backed:
         return []
-    from core.checks.ac_coupling import ac_coupled_rating_w
+    from core.analyses.checks.ac_coupling import ac_coupled_rating_w
 
     rating = ac_coupled_rating_w(sc, "backed_up")
     if sim is None:

@@ -34,10 +34,10 @@ class LoadQuality:
 
     ``coverage_pct`` is the share of intervals between the first and the last reading that hold readings
     (filled and missing intervals excluded). ``gaps_filled`` counts runs of missing intervals filled (short
-    gaps, see :data:`core.loads.read.MAX_GAP_FILL_S`); ``filled_intervals`` the intervals in them.
+    gaps, see :data:`core.model.loads.read.MAX_GAP_FILL_S`); ``filled_intervals`` the intervals in them.
     ``energy_kwh`` is the energy of the imported series including filled intervals. Rows are numbered as
     lines of the file, from 1. ``base_load_w`` holds 12 monthly values (W, all hours; see
-    :func:`core.loads.base_load.base_load_w`), None where a month has too little data; ``base_load_day_w``
+    :func:`core.model.loads.base_load.base_load_w`), None where a month has too little data; ``base_load_day_w``
     and ``base_load_night_w`` split them by day and night.
     """
     span_days: float

@@ -13,7 +13,7 @@ import math
 
 import numpy as np
 
-from core.checks.common import CAUTION_AC, CAUTION_BATTERY, Check
+from core.analyses.checks.common import CAUTION_AC, CAUTION_BATTERY, Check
 from core.scenario import Array, Scenario
 
 #: Export energy below which a year counts as export-free (rounding of the engine's sums), kWh.

@@ -3,7 +3,7 @@
 Not a loop of full runs: the site (weather, sun, loads) is prepared once, each orientation's module output is
 computed once (:class:`core.simulate.OrientationCache`), each variant's converter outputs are a few array
 operations, and the variants go through the engine in batches in one compiled call each
-(:func:`core.dispatch.dispatch_many`). Each variant is reduced at once to a row of figures, so memory stays
+(:func:`core.model.dispatch.dispatch_many`). Each variant is reduced at once to a row of figures, so memory stays
 bounded at any time step. The result is a tidy table for heatmaps (one row per option × tilt × azimuth × count).
 """
 
@@ -14,8 +14,8 @@ from collections.abc import Callable, Iterable, Sequence
 import numpy as np
 import pandas as pd
 
-from core import dispatch
-from core.options import Layout, applicable_options, layout_of, with_option
+from core.analyses.options import Layout, applicable_options, layout_of, with_option
+from core.model import dispatch
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SiteData, SourcePower, dispatch_params, prepare_site, source_power
 
@@ -40,7 +40,7 @@ def _source_rows(s: SourcePower) -> dict[str, np.ndarray]:
 
 
 def _figures(flows: np.ndarray, s: SourcePower, dt_h: float) -> dict[str, float]:
-    """Year totals (kWh) and hours of one variant from its engine flows and source powers (as core.metrics)."""
+    """Year totals (kWh) and hours of one variant from its engine flows and source powers (as core.model.metrics)."""
     k = dt_h / 1000.0
     curtailed = flows[_F["curtailed_dc_w"]] + flows[_F["curtailed_acb_w"]] + flows[_F["curtailed_acg_w"]]
     potential = float((s.potential_dc_w + s.potential_ac_w).sum() * k)

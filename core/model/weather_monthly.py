@@ -41,8 +41,8 @@ import pvlib
 from scipy import optimize, special
 
 from core.errors import InputError
+from core.model.weather import Weather, as_standard_tz, clearsky_ghi, erbs_split, sun_at_midpoints
 from core.timebase import check_site, nominal_index
-from core.weather import Weather, as_standard_tz, clearsky_ghi, erbs_split, sun_at_midpoints
 
 #: Bendt et al. (1981) lower limit of daily clearness (from memory).
 KT_MIN = 0.05

@@ -6,16 +6,16 @@ and estimate the base load.
 - :func:`base_load_w` → monthly night/day base load
 - :func:`load_year`, :func:`inspect_load_summary` → one-call conveniences
 
-The reading rules are in :mod:`core.loads.read`, the year-building method and its limits in
-:mod:`core.loads.year_builder` and in docs/load_data.md.
+The reading rules are in :mod:`core.model.loads.read`, the year-building method and its limits in
+:mod:`core.model.loads.year_builder` and in docs/load_data.md.
 """
 
-from core.loads.base_load import base_load_w
-from core.loads.load_file import inspect_load_summary, load_year
-from core.loads.quality import LoadQuality
-from core.loads.read import MAX_GAP_FILL_S, MAX_POWER_W, MeasuredLoad, read_load_csv
-from core.loads.units import UNITS
-from core.loads.year_builder import METHOD_TEXT, MIN_DAYS, YearBuildReport, build_year
+from core.model.loads.base_load import base_load_w
+from core.model.loads.load_file import inspect_load_summary, load_year
+from core.model.loads.quality import LoadQuality
+from core.model.loads.read import MAX_GAP_FILL_S, MAX_POWER_W, MeasuredLoad, read_load_csv
+from core.model.loads.units import UNITS
+from core.model.loads.year_builder import METHOD_TEXT, MIN_DAYS, YearBuildReport, build_year
 
 __all__ = [
     "MAX_GAP_FILL_S",

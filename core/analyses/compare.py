@@ -1,6 +1,6 @@
 """The expansion options side by side: the existing system, AC-coupled on either side, DC-coupled.
 
-Every option is the same scenario with one more array (``core.options.with_option``), so all of them share
+Every option is the same scenario with one more array (``core.analyses.options.with_option``), so all of them share
 one :func:`core.simulate.prepare_site` and one :class:`core.simulate.OrientationCache`: weather, sun, loads and
 each orientation's module output are computed once. For each option the full year's figures, the difference
 from the existing system, the economics, and a plain-words verdict on which option wins on energy and on money,
@@ -25,9 +25,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core import economics as econ
-from core.checks import check_options
-from core.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
+from core.analyses.checks import check_options
+from core.analyses.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
+from core.model import economics as econ
 from core.scenario import Scenario
 from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
 

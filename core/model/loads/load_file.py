@@ -10,9 +10,9 @@ from typing import Any
 import pandas as pd
 
 from core.errors import InputError
-from core.loads.quality import LoadQuality
-from core.loads.read import Progress, read_load_csv
-from core.loads.year_builder import YearBuildReport, build_year
+from core.model.loads.quality import LoadQuality
+from core.model.loads.read import Progress, read_load_csv
+from core.model.loads.year_builder import YearBuildReport, build_year
 
 
 def load_year(path: str | PathLike[str], *, step_s: int, tz: dt.tzinfo, timezone_name: str | None,

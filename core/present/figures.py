@@ -1,6 +1,6 @@
 """The small tidy tables behind every figure of the explorer and the HTML report.
 
-Pure functions over a simulated year (the per-step table and its :class:`core.metrics.Results`); each returns a
+Pure functions over a simulated year (the per-step table and its :class:`core.model.metrics.Results`); each returns a
 long-format DataFrame with the unit in a column name, so that a chart builder only maps columns to channels.
 The explorer draws them with Altair, the HTML report as inline SVG; both read the same numbers.
 """
@@ -183,7 +183,7 @@ def loads_from_pv_kwh(energy_kwh: dict) -> float:
 
 def headline_figures(results, baseline, *, payback_years: float | None = None,
                      baseline_payback_years: float | None = None) -> list[Headline]:
-    """The headline figures of an option against the existing system (both :class:`core.metrics.Results`)."""
+    """The headline figures of an option against the existing system (both :class:`core.model.metrics.Results`)."""
     e, b = results.energy_kwh, baseline.energy_kwh
 
     def pct(r, key):

@@ -9,10 +9,16 @@ import math
 
 import numpy as np
 
-from core.checks.common import CAUTION_DC, CAUTION_MICRO, Check, DesignTemperatures, hot_cell_temperature_c
-from core.checks.frequency_watt import PRESETS
-from core.checks.strings import NEC_690_8_FACTOR, vmp_at_v, voc_max_coefficient_v
-from core.conversion import microinverter_output
+from core.analyses.checks.common import (
+    CAUTION_DC,
+    CAUTION_MICRO,
+    Check,
+    DesignTemperatures,
+    hot_cell_temperature_c,
+)
+from core.analyses.checks.frequency_watt import PRESETS
+from core.analyses.checks.strings import NEC_690_8_FACTOR, vmp_at_v, voc_max_coefficient_v
+from core.model.conversion import microinverter_output
 from core.scenario import Scenario
 
 #: DC/AC ratio above which clipping becomes noticeable (common practice: 1.1 to 1.3 is usual for microinverters).

@@ -1,7 +1,7 @@
 """The standalone HTML report of one what-if: figures, charts as inline SVG, design checks and safety cautions.
 
 One file, no scripts and nothing fetched at view time: the charts are SVG drawn here from the same tidy tables
-(:mod:`core.figures`) that the explorer draws with Altair, so the report opens offline in any browser and prints.
+(:mod:`core.present.figures`) that the explorer draws with Altair, so the report opens offline in any browser and prints.
 """
 
 from __future__ import annotations
@@ -14,9 +14,9 @@ from collections.abc import Sequence
 import numpy as np
 import pandas as pd
 
-from core import figures as fig
-from core.metrics import ENERGY_KEYS
-from core.safety import SAFETY_CAUTIONS
+from core.model.metrics import ENERGY_KEYS
+from core.present import figures as fig
+from core.present.safety import SAFETY_CAUTIONS
 
 #: Readable names of the year's energy figures (the balance of DESIGN.md §5, in report order).
 ENERGY_LABELS = {

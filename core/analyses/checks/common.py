@@ -104,8 +104,8 @@ def design_temperatures(sc: Scenario, temp_air_c: np.ndarray | None = None) -> D
 
 def hot_cell_temperature_c(high_air_c: float, mount: str) -> float:
     """Cell temperature in full sun on the hottest hour: the SAPM model with the mount's parameters at
-    1000 W/m² and 1 m/s wind (King et al., SAND2004-3535; the project's :func:`core.pv.cell_temperature`)."""
-    from core.pv import cell_temperature
+    1000 W/m² and 1 m/s wind (King et al., SAND2004-3535; the project's :func:`core.model.pv.cell_temperature`)."""
+    from core.model.pv import cell_temperature
 
     return float(cell_temperature(np.array([HOT_CELL_IRRADIANCE_W_M2]), np.array([high_air_c]),
                                   np.array([HOT_CELL_WIND_M_S]), mount)[0])

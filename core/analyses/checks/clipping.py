@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from core.checks.common import Check
-from core.checks.strings import dc_arrays_by_controller
-from core.conversion import controller_output
+from core.analyses.checks.common import Check
+from core.analyses.checks.strings import dc_arrays_by_controller
+from core.model.conversion import controller_output
 from core.scenario import Scenario
 
 #: Share of the module energy clipped above which the check warns (our own choice, in line with common practice).

@@ -47,7 +47,7 @@ import numpy as np
 import pandas as pd
 
 from core.errors import InputError
-from core.loads.quality import json_ready
+from core.model.loads.quality import json_ready
 from core.timebase import NOMINAL_YEAR, nominal_index
 
 MIN_DAYS = 21

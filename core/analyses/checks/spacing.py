@@ -21,9 +21,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core.checks.common import CAUTION_STRUCTURE, Check
+from core.analyses.checks.common import CAUTION_STRUCTURE, Check
 from core.errors import InputError
-from core.pv import row_shaded_fraction  # noqa: F401 - the physics lives in the PV leaf
+from core.model.pv import row_shaded_fraction  # noqa: F401 - the physics lives in the PV leaf
 
 #: Obliquity of the ecliptic: the sun's declination at the solstices, degrees (from memory).
 SOLSTICE_DECLINATION_DEG = 23.44
@@ -170,7 +170,7 @@ def spacing_checks(sc, sim=None) -> list[Check]:
         gap = a.row_pitch_m - rule.depth_m
         loss = None
         if sim is not None:
-            from core.pv import poa_irradiance
+            from core.model.pv import poa_irradiance
 
             geo = sim.site.geometry
             poa = poa_irradiance(sim.site.weather.data, geo, a.tilt_deg, a.azimuth_deg)

@@ -37,14 +37,14 @@ import numpy as np
 import pandas as pd
 
 from core.errors import InputError
-from core.loads.base_load import base_load_w
-from core.loads.decode import read_text
-from core.loads.grid import MAX_CELLS, detect_interval, detect_phase, fill_short_gaps, to_grid
-from core.loads.numbers import parse_numbers
-from core.loads.quality import LoadQuality
-from core.loads.table import LINE_COLUMN, SEPARATOR_NAMES, RawTable, find_table
-from core.loads.timestamps import TimeColumns, find_time_columns, parse_times, zone_or_error
-from core.loads.units import (
+from core.model.loads.base_load import base_load_w
+from core.model.loads.decode import read_text
+from core.model.loads.grid import MAX_CELLS, detect_interval, detect_phase, fill_short_gaps, to_grid
+from core.model.loads.numbers import parse_numbers
+from core.model.loads.quality import LoadQuality
+from core.model.loads.table import LINE_COLUMN, SEPARATOR_NAMES, RawTable, find_table
+from core.model.loads.timestamps import TimeColumns, find_time_columns, parse_times, zone_or_error
+from core.model.loads.units import (
     POWER_UNITS,
     REGISTER_UNITS,
     SCALE,

@@ -17,8 +17,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from core.metrics import Results
-from core.options import Layout, applicable_options, layout_of, with_option
+from core.analyses.options import Layout, applicable_options, layout_of, with_option
+from core.model.metrics import Results
 from core.scenario import Scenario
 from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
 from core.timebase import MIN_STEP_S

@@ -1,0 +1,1 @@
+"""Analyses above the orchestrator: options, compare, sweep, resolution, design checks."""
