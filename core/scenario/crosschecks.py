@@ -1,0 +1,120 @@
+"""Rules of a scenario that involve more than one key: references between sections, ranges that
+depend on each other."""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+
+from core.errors import InputError
+from core.scenario.reader import Reader
+from core.scenario.schema import AC_CONTROL_MODES, Scenario
+from core.timebase import standard_offset
+
+
+def cross_check(sc: Scenario, r: Reader) -> None:
+    """References between sections, and rules that involve more than one key."""
+    def ref(name: str | None, table: dict, where: str, kind: str) -> None:
+        if name is None:
+            r.fail(where, f"a {kind} must be named here")
+        if name not in table:
+            near = difflib.get_close_matches(name, list(table), n=1, cutoff=0.3)
+            hint = f"did you mean {near[0]!r}?" if near else (
+                f"defined: {', '.join(table)}" if table else f"add a [{kind}s.{name}] section")
+            r.fail(where, f"no {kind} named {name!r}", hint)
+
+    for where, zone in (("site.timezone", sc.site.timezone), ("load.timezone", sc.load.timezone)):
+        if zone is not None:
+            try:
+                standard_offset(zone)
+            except InputError as exc:
+                r.fail(where, exc.message, exc.hint)
+    if sc.weather.source == "file" and not sc.weather.path:
+        r.fail("weather.path", "source = 'file' needs a path", "give the weather file's path, relative to the scenario")
+    if sc.weather.source == "monthly" and (sc.weather.ghi_kwh_m2_day is None or sc.weather.temp_air_c is None):
+        r.fail("weather", "source = 'monthly' needs ghi_kwh_m2_day and temp_air_c (12 values each)")
+    faces = {}
+    for i, f in enumerate(sc.faces):
+        if f.name in faces:
+            r.fail(f"faces[{i}].name", f"the name {f.name!r} is used twice", "give every face its own name")
+        faces[f.name] = f
+        for j, (az, el) in enumerate(f.horizon):
+            if not (0 <= az <= 360 and 0 <= el < 90):
+                r.fail(f"faces[{i}].horizon[{j}]", f"({az}, {el}) is not an (azimuth 0…360°, elevation 0…90°) point")
+    names = set()
+    for i, a in enumerate(sc.arrays):
+        where = f"arrays[{i}]"
+        if a.name in names:
+            r.fail(f"{where}.name", f"the name {a.name!r} is used twice", "give every array its own name")
+        names.add(a.name)
+        ref(a.module, sc.modules, f"{where}.module", "module")
+        if a.face is not None:
+            ref(a.face, faces, f"{where}.face", "face")
+            for key in ("tilt_deg", "azimuth_deg"):
+                mine, theirs = getattr(a, key), getattr(faces[a.face], key)
+                if mine is not None and mine != theirs:
+                    r.fail(f"{where}.{key}", f"{key} = {mine} disagrees with face {a.face!r}'s {key} = {theirs}",
+                           f"leave {key} out of the array (it takes the face's), or make the two agree")
+        else:
+            for key in ("tilt_deg", "azimuth_deg"):
+                if getattr(a, key) is None:
+                    r.fail(f"{where}.{key}", "required key is missing", f"add {key} = …, or name the array's face")
+        if a.coupling == "dc":
+            ref(a.controller, sc.controllers, f"{where}.controller", "controller")
+            for key in ("modules_per_string", "strings"):
+                if getattr(a, key) is None:
+                    r.fail(f"{where}.{key}", "a DC-coupled array needs this key")
+            if sc.battery is None:
+                r.fail(f"{where}.coupling", "DC-coupled arrays charge a battery, but there is no [battery]")
+        else:
+            ref(a.microinverter, sc.microinverters, f"{where}.microinverter", "microinverter")
+            if a.side is None:
+                r.fail(f"{where}.side", "an AC-coupled array needs side = 'backed_up' or 'grid'")
+            if a.modules is None:
+                r.fail(f"{where}.modules", "an AC-coupled array needs a module count")
+    b = sc.battery
+    if b is not None and b.floor_pct > b.reserve_pct:
+        r.fail("battery.floor_pct", f"the outage floor ({b.floor_pct} %) is above the reserve ({b.reserve_pct} %)",
+               "the floor is the lowest SOC in an outage and must not exceed the reserve kept while the grid is up")
+    for name, c in sc.controllers.items():
+        if c.mppt_min_v >= c.mppt_max_v:
+            r.fail(f"controllers.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
+    for name, m in sc.microinverters.items():
+        if m.mppt_min_v >= m.mppt_max_v:
+            r.fail(f"microinverters.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
+    eff = sc.inverter_charger.efficiency
+    if isinstance(eff, tuple):
+        fracs = [p[0] for p in eff]
+        if len(eff) < 2 or any(b <= a for a, b in zip(fracs, fracs[1:], strict=False)):
+            r.fail("inverter_charger.efficiency", "a part-load curve needs two or more points with rising load fractions")
+        if any(not 0 < p[1] <= 1 for p in eff) or any(not 0 <= p[0] <= 1.5 for p in eff):
+            r.fail("inverter_charger.efficiency", "curve points are [load_fraction 0…1, efficiency 0…1]")
+    if sc.grid.export_allowed and sc.grid.export_limit_w <= 0:
+        r.fail("grid.export_limit_w", "export is allowed but the export limit is 0 W",
+               "set export_limit_w, or export_allowed = false for zero export")
+    d = sc.design
+    if d is not None:
+        ref(d.module, sc.modules, "design.module", "module")
+        for key, table, kind in (("faces", faces, "face"), ("controllers", sc.controllers, "controller"),
+                                 ("microinverters", sc.microinverters, "microinverter")):
+            for j, name in enumerate(getattr(d, key) or ()):
+                ref(name, table, f"design.{key}[{j}]", kind)
+        for j, mode in enumerate(d.export_controls or ()):
+            if mode not in AC_CONTROL_MODES:
+                r.fail(f"design.export_controls[{j}]", f"{mode!r} is not one of {', '.join(map(repr, AC_CONTROL_MODES))}")
+    e = sc.expansion
+    if e is not None:
+        ref(e.module, sc.modules, "expansion.module", "module")
+        if e.microinverter is not None:
+            ref(e.microinverter, sc.microinverters, "expansion.microinverter", "microinverter")
+        if e.controller is not None:
+            ref(e.controller, sc.controllers, "expansion.controller", "controller")
+
+
+def with_face_orientations(sc: Scenario) -> Scenario:
+    """Arrays that name their face take its tilt and azimuth (checked to agree by :func:`cross_check`)."""
+    faces = {f.name: f for f in sc.faces}
+    arrays = tuple(a if a.face is None else dataclasses.replace(a, tilt_deg=faces[a.face].tilt_deg,
+                                                                azimuth_deg=faces[a.face].azimuth_deg)
+                   for a in sc.arrays)
+    return dataclasses.replace(sc, arrays=arrays) if arrays != sc.arrays else sc

@@ -1,0 +1,329 @@
+"""The scenario file's schema (TOML, schema 1): one frozen dataclass per section.
+
+Each field's type and its ``metadata`` (range, unit, list length) drive one general validator
+(:mod:`core.scenario.reader`), so adding a key means adding a field. The keys and their meaning are
+listed in ``docs/design.md`` (the scenario reference).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Literal
+
+from core.errors import InputError
+
+SCHEMA = 1
+
+
+def _num(lo: float | None = None, hi: float | None = None, *, lo_open: bool = False, unit: str = "",
+         count: int | None = None, missing: float | None = None) -> dict:
+    """Field metadata: the sensible range, the unit for messages, a list's length, a list's "no value" marker."""
+    return {"lo": lo, "hi": hi, "lo_open": lo_open, "unit": unit, "count": count, "missing": missing}
+
+
+MONTHS = 12
+
+
+# --------------------------------------------------------------------------------------------- sections
+@dataclass(frozen=True)
+class Site:
+    latitude: float = field(metadata=_num(-90, 90, unit="degrees north"))
+    longitude: float = field(metadata=_num(-180, 180, unit="degrees east"))
+    altitude_m: float = field(default=0.0, metadata=_num(-500, 9000))
+    timezone: str | None = None  # IANA name; found from latitude/longitude when missing
+
+
+@dataclass(frozen=True)
+class Weather:
+    source: Literal["file", "monthly"] = "file"
+    path: str | None = None
+    format: Literal["epw", "tmy3", "tmy2", "csv"] | None = None
+    ghi_kwh_m2_day: tuple[float, ...] | None = field(default=None, metadata=_num(0, 12, unit="kWh/m²/day", count=MONTHS))
+    temp_air_c: tuple[float, ...] | None = field(default=None, metadata=_num(-60, 50, count=MONTHS))
+    seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
+
+
+@dataclass(frozen=True)
+class Load:
+    path: str | None = None
+    column: str | None = None
+    unit: Literal["W", "kW", "Wh", "kWh", "kWh_register"] | None = None
+    timezone: str | None = None  # of naive timestamps in the file; defaults to the site's
+    grid_only_path: str | None = None
+    grid_only_column: str | None = None
+    # Bill totals, January first; -1 marks a month with no bill (read as None).
+    monthly_kwh: tuple[float | None, ...] | None = field(default=None, metadata=_num(0, 1e6, count=MONTHS, missing=-1))
+    grid_only_monthly_kwh: tuple[float | None, ...] | None = field(
+        default=None, metadata=_num(0, 1e6, count=MONTHS, missing=-1))
+
+
+@dataclass(frozen=True)
+class Module:
+    pmax_w: float = field(metadata=_num(1, 1000, lo_open=True))
+    vmp_v: float = field(metadata=_num(1, 200))
+    imp_a: float = field(metadata=_num(0.1, 50))
+    voc_v: float = field(metadata=_num(1, 250))
+    isc_a: float = field(metadata=_num(0.1, 50))
+    gamma_pmax_pct_per_c: float = field(default=-0.35, metadata=_num(-1.5, 0))
+    beta_voc_pct_per_c: float = field(default=-0.27, metadata=_num(-1.5, 0))
+    alpha_isc_pct_per_c: float = field(default=0.05, metadata=_num(0, 0.5))
+    length_m: float = field(default=1.7, metadata=_num(0.2, 4))
+    width_m: float = field(default=1.1, metadata=_num(0.2, 3))
+    price: float | None = field(default=None, metadata=_num(0, 1e6))  # per unit, in the tariff's currency
+
+
+@dataclass(frozen=True)
+class Battery:
+    usable_kwh: float = field(metadata=_num(0, 2000))
+    nominal_v: float = field(default=48.0, metadata=_num(6, 1500, lo_open=True))
+    max_charge_a: float = field(default=100.0, metadata=_num(0, 10000))
+    max_discharge_a: float = field(default=100.0, metadata=_num(0, 10000))
+    roundtrip_efficiency: float = field(default=0.92, metadata=_num(0.3, 1, lo_open=True))
+    reserve_pct: float = field(default=30.0, metadata=_num(0, 100))
+    floor_pct: float = field(default=5.0, metadata=_num(0, 100))
+    initial_pct: float = field(default=50.0, metadata=_num(0, 100))
+
+
+@dataclass(frozen=True)
+class InverterCharger:
+    rating_w: float = field(metadata=_num(0, 1e6, lo_open=True))
+    # A number, or a part-load curve [[load_fraction, efficiency], ...].
+    efficiency: float | tuple[tuple[float, float], ...] = field(default=0.93, metadata=_num(0, 1, lo_open=True))
+    charger_rating_w: float | None = field(default=None, metadata=_num(0, 1e6))  # AC input; None = rating_w
+    charger_efficiency: float = field(default=0.92, metadata=_num(0.3, 1, lo_open=True))
+    idle_w: float = field(default=25.0, metadata=_num(0, 1000))
+    # Highest frequency the inverter-charger shifts its islanded output to, to curtail AC-coupled PV.
+    islanded_max_hz: float | None = field(default=None, metadata=_num(45, 66))
+
+
+@dataclass(frozen=True)
+class Controller:
+    max_pv_voltage_v: float = field(metadata=_num(10, 2000))
+    mppt_min_v: float = field(metadata=_num(0, 2000))
+    mppt_max_v: float = field(metadata=_num(0, 2000))
+    max_input_current_a: float = field(metadata=_num(0, 500, lo_open=True))
+    max_charge_current_a: float = field(metadata=_num(0, 1000, lo_open=True))
+    efficiency: float = field(default=0.97, metadata=_num(0.3, 1, lo_open=True))
+    battery_margin_v: float = field(default=5.0, metadata=_num(0, 100))  # PV must exceed battery V by this
+    price: float | None = field(default=None, metadata=_num(0, 1e6))  # paid only when the design buys one
+
+
+@dataclass(frozen=True)
+class Microinverter:
+    ac_rating_w: float = field(metadata=_num(0, 10000, lo_open=True))
+    max_dc_input_w: float = field(metadata=_num(0, 10000, lo_open=True))
+    mppt_min_v: float = field(metadata=_num(0, 1000))
+    mppt_max_v: float = field(metadata=_num(0, 1000))
+    max_input_voltage_v: float = field(metadata=_num(0, 1000, lo_open=True))
+    max_input_current_a: float = field(metadata=_num(0, 100, lo_open=True))
+    efficiency: float = field(default=0.96, metadata=_num(0.3, 1, lo_open=True))
+    inputs: int = field(default=1, metadata=_num(1, 8))
+    grid_code: Literal["ieee1547_2018", "en50549_1"] = "ieee1547_2018"
+    fw_start_hz: float | None = field(default=None, metadata=_num(45, 66))  # overrides the grid code's default
+    fw_droop_pct: float | None = field(default=None, metadata=_num(0.5, 20))
+    trip_hz: float | None = field(default=None, metadata=_num(45, 66))
+    price: float | None = field(default=None, metadata=_num(0, 1e6))  # per unit, in the tariff's currency
+
+
+@dataclass(frozen=True)
+class Array:
+    name: str
+    coupling: Literal["dc", "ac"]
+    module: str
+    # Required unless the array names its face, whose orientation it then takes (filled in when read).
+    tilt_deg: float = field(default=None, metadata=_num(0, 90))  # type: ignore[assignment]
+    azimuth_deg: float = field(default=None, metadata=_num(0, 360))  # type: ignore[assignment]
+    face: str | None = None  # the [[faces]] entry the array lies on
+    mount: Literal["rack", "flush"] = "flush"
+    losses_pct: float = field(default=10.0, metadata=_num(0, 99))
+    row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
+    # DC-coupled
+    controller: str | None = None
+    modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
+    strings: int | None = field(default=None, metadata=_num(1, 100))
+    # AC-coupled
+    side: Literal["backed_up", "grid"] | None = None
+    microinverter: str | None = None
+    modules: int | None = field(default=None, metadata=_num(0, 1000))
+
+    @property
+    def module_count(self) -> int:
+        if self.coupling == "dc":
+            return (self.modules_per_string or 0) * (self.strings or 0)
+        return self.modules or 0
+
+
+@dataclass(frozen=True)
+class Obstacle:
+    """A box near a face (chimney, dormer, a neighbour's wall, a tree as a box), placed from the face's centre."""
+
+    name: str
+    azimuth_deg: float = field(metadata=_num(0, 360))  # direction from the face's centre (180 = south)
+    distance_m: float = field(metadata=_num(0, 1000))  # horizontal distance from the face's centre
+    height_m: float = field(metadata=_num(0, 500))  # top above the face's lowest edge
+    width_m: float = field(default=1.0, metadata=_num(0, 1000, lo_open=True))
+    depth_m: float = field(default=1.0, metadata=_num(0, 1000, lo_open=True))
+
+
+@dataclass(frozen=True)
+class Face:
+    """A roof face where modules are or may go: its orientation, room, layout and surroundings."""
+
+    name: str
+    tilt_deg: float = field(metadata=_num(0, 90))
+    azimuth_deg: float = field(metadata=_num(0, 360))
+    mount: Literal["rack", "flush"] = "flush"
+    losses_pct: float = field(default=10.0, metadata=_num(0, 99))
+    max_modules: int = field(default=0, metadata=_num(0, 1000))  # all modules it holds, existing ones included
+    row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
+    # Layout and surroundings (for shading): rows × columns of modules, their orientation and bypass diodes.
+    rows: int | None = field(default=None, metadata=_num(1, 100))
+    columns: int | None = field(default=None, metadata=_num(1, 200))
+    module_orientation: Literal["portrait", "landscape"] = "portrait"
+    bypass_diodes: int = field(default=3, metadata=_num(1, 12))
+    horizon: tuple[tuple[float, float], ...] = ()  # (azimuth°, elevation°) points, interpolated; () = flat
+    obstacles: tuple[Obstacle, ...] = ()
+
+
+@dataclass(frozen=True)
+class Design:
+    """What the design search may buy and where it may put it; absent, it is built from [expansion]."""
+
+    module: str
+    new_modules_max: int = field(default=4, metadata=_num(1, 200))
+    faces: tuple[str, ...] | None = None  # None = every face with room
+    controllers: tuple[str, ...] | None = None  # None = all
+    microinverters: tuple[str, ...] | None = None  # None = all
+    export_controls: tuple[str, ...] | None = None  # None = every mode the engine supports
+    cost_fixed_dc: float = field(default=0.0, metadata=_num(0, 1e7))
+    cost_fixed_ac: float = field(default=0.0, metadata=_num(0, 1e7))
+    cost_per_module: float = field(default=0.0, metadata=_num(0, 1e7))
+    cost_restring: float = field(default=0.0, metadata=_num(0, 1e7))
+    cost_limiter: float = field(default=0.0, metadata=_num(0, 1e7))
+
+
+@dataclass(frozen=True)
+class RandomOutages:
+    per_year: float = field(default=4.0, metadata=_num(0, 365))
+    mean_hours: float = field(default=3.0, metadata=_num(0, 24 * 30, lo_open=True))
+    seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
+
+
+#: How AC-coupled output can be held back when the loads and battery cannot take it (``grid.ac_export_control``).
+AC_CONTROL_MODES = ("none", "limiter")
+
+
+@dataclass(frozen=True)
+class Grid:
+    export_allowed: bool = False
+    export_limit_w: float = field(default=0.0, metadata=_num(0, 1e6))
+    standing_draw_w: float = field(default=30.0, metadata=_num(0, 10000))
+    metering: Literal["site", "inverter"] = "site"
+    ac_export_control: Literal["none", "limiter"] = "none"
+    recharge_reserve_from_grid: bool = True
+    outages_path: str | None = None
+    random_outages: RandomOutages | None = None
+
+
+@dataclass(frozen=True)
+class Expansion:
+    module: str
+    count: int = field(default=2, metadata=_num(0, 1000))
+    tilt_deg: float = field(default=30.0, metadata=_num(0, 90))
+    azimuth_deg: float = field(default=180.0, metadata=_num(0, 360))
+    mount: Literal["rack", "flush"] = "flush"
+    losses_pct: float = field(default=10.0, metadata=_num(0, 99))
+    row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
+    microinverter: str | None = None  # AC option
+    controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
+    modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
+    strings: int | None = field(default=None, metadata=_num(1, 100))
+    # Costs of the whole expansion at ``count`` panels; another count is priced per panel (see priced_for).
+    cost_ac: float = field(default=0.0, metadata=_num(0, 1e8))
+    cost_dc: float = field(default=0.0, metadata=_num(0, 1e8))
+    # The coupling being looked at first (the explorer's choice when the file was saved); all are compared anyway.
+    coupling: Literal["ac_backed_up", "ac_grid", "dc"] | None = None
+
+    def priced_for(self, count: int) -> Expansion:
+        """The same expansion at another panel count, its costs scaled per panel (a count of 0 keeps them)."""
+        scale = count / self.count if self.count > 0 and count > 0 else 1.0
+        return dataclasses.replace(self, count=int(count), cost_ac=round(self.cost_ac * scale, 2),
+                                   cost_dc=round(self.cost_dc * scale, 2))
+
+
+@dataclass(frozen=True)
+class Tariff:
+    currency: str = "EUR"
+    import_price_per_kwh: float = field(default=0.30, metadata=_num(0, 100))
+    export_price_per_kwh: float = field(default=0.0, metadata=_num(0, 100))
+    escalation_pct: float = field(default=2.0, metadata=_num(-50, 100))
+    discount_pct: float = field(default=3.0, metadata=_num(-50, 100))
+    years: int = field(default=20, metadata=_num(1, 60))
+    degradation_pct_per_year: float = field(default=0.5, metadata=_num(0, 10))
+
+
+@dataclass(frozen=True)
+class Simulation:
+    # None = the weather's own step. Finer than a minute is refused: a year at 1 s is 31.5 million steps.
+    step_s: int | None = field(default=None, metadata=_num(60, 3600))
+    design_low_temp_c: float | None = field(default=None, metadata=_num(-60, 40))
+    design_high_temp_c: float | None = field(default=None, metadata=_num(0, 90))
+
+
+@dataclass(frozen=True)
+class Scenario:
+    name: str
+    site: Site
+    weather: Weather
+    modules: dict[str, Module]
+    inverter_charger: InverterCharger
+    load: Load = field(default_factory=Load)
+    battery: Battery | None = None
+    controllers: dict[str, Controller] = field(default_factory=dict)
+    microinverters: dict[str, Microinverter] = field(default_factory=dict)
+    arrays: tuple[Array, ...] = ()
+    faces: tuple[Face, ...] = ()
+    grid: Grid = field(default_factory=Grid)
+    expansion: Expansion | None = None
+    design: Design | None = None
+    tariff: Tariff = field(default_factory=Tariff)
+    simulation: Simulation = field(default_factory=Simulation)
+    schema: int = SCHEMA
+    # Where relative paths are resolved from; not part of the file and not compared.
+    base_dir: Path = field(default=Path("."), compare=False, repr=False)
+    # When set, every path must resolve inside this folder (uploads, shared machines).
+    confine_to: Path | None = field(default=None, compare=False, repr=False)
+
+    def resolve(self, relative: str, where: str = "path") -> Path:
+        """The absolute path of a file named in the scenario, checked to stay inside ``confine_to``.
+
+        Symbolic links are followed before the check, so a link inside the folder that points out of it is
+        refused too.
+        """
+        if "\x00" in str(relative):
+            raise InputError("the path contains a NUL character", where=where, hint="write a plain file name")
+        try:
+            path = (self.base_dir / relative).resolve()
+        except (OSError, RuntimeError, ValueError) as exc:  # too long, a symlink loop, …
+            raise InputError(f"path {relative!r} cannot be resolved ({exc})", where=where,
+                             hint="check the path; keep data files in the scenario's folder") from None
+        if self.confine_to is not None:
+            root = Path(self.confine_to).resolve()
+            if not path.is_relative_to(root):
+                raise InputError(f"path {relative!r} points outside the scenario's folder", where=where,
+                                 hint="keep data files in the same folder as the scenario file")
+        return path
+
+    def data_files(self) -> dict[str, Path]:
+        """The data files the scenario names, as ``{"section.key": absolute path}``."""
+        return {f"{section}.{key}": self.resolve(value, f"{section}.{key}") for section, key in PATH_KEYS
+                if (value := getattr(getattr(self, section), key))}
+
+    def replace(self, **changes: Any) -> Scenario:
+        return dataclasses.replace(self, **changes)
+
+
+#: Where a scenario names data files: (section, key).
+PATH_KEYS = (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path"))
