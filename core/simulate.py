@@ -37,7 +37,7 @@ class SiteData:
     weather: weather_io.Weather
     geometry: solar.SolarGeometry
     load_backed_w: np.ndarray
-    load_grid_w: np.ndarray
+    load_grid_only_w: np.ndarray
     grid_up: np.ndarray
     load_notes: dict = field(default_factory=dict)
 
@@ -144,7 +144,7 @@ def prepare_site(sc: Scenario) -> SiteData:
         intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed)
     return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
                     longitude=sc.site.longitude, weather=weather, geometry=geometry,
-                    load_backed_w=load_b, load_grid_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
+                    load_backed_w=load_b, load_grid_only_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
                     load_notes={"backed_up": notes_b, "grid_only": notes_g})
 
 
@@ -254,7 +254,7 @@ def dispatch_params(sc: Scenario, dt_h: float) -> dispatch.DispatchParams:
 
 
 @dataclass(frozen=True)
-class Simulation:
+class SimulationResult:
     """One simulated year: the per-step table, the figures, and what the checks need."""
 
     scenario: Scenario
@@ -264,11 +264,11 @@ class Simulation:
     sources: SourcePower
 
 
-def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = True) -> Simulation:
+def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = True) -> SimulationResult:
     """Dispatch and figures for given source powers (the part a count-only change repeats)."""
     params = dispatch_params(sc, site.dt_h)
     inputs = dispatch.DispatchInputs(
-        load_backed_w=site.load_backed_w, load_grid_w=site.load_grid_w, dc_out_w=sources.dc.out_w,
+        load_backed_w=site.load_backed_w, load_grid_only_w=site.load_grid_only_w, dc_out_w=sources.dc.out_w,
         dc_loss_w=sources.dc.loss_w, ac_backed_out_w=sources.ac_backed.out_w, ac_backed_loss_w=sources.ac_backed.loss_w,
         ac_grid_out_w=sources.ac_grid.out_w, ac_grid_loss_w=sources.ac_grid.loss_w, grid_up=site.grid_up)
     flows = dispatch.dispatch(inputs, params, compiled=compiled)
@@ -277,7 +277,7 @@ def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = 
     # site's and the sources' arrays are copied so that editing the table never reaches the caches.
     columns = {name: flows.flows[i] for i, name in enumerate(dispatch.FLOWS)}
     shared = dict(
-        load_backed_w=site.load_backed_w, load_grid_w=site.load_grid_w, grid_up=site.grid_up,
+        load_backed_w=site.load_backed_w, load_grid_only_w=site.load_grid_only_w, grid_up=site.grid_up,
         pv_potential_dc_w=sources.potential_dc_w, pv_potential_ac_w=sources.potential_ac_w,
         clipped_dc_w=sources.clipped_dc_w, clipped_ac_w=sources.clipped_ac_w,
         dc_out_w=sources.dc.out_w, ac_backed_out_w=sources.ac_backed.out_w, ac_grid_out_w=sources.ac_grid.out_w,
@@ -291,11 +291,11 @@ def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = 
                        "step_s": site.step_s, "months": [float(v) for v in months.sums(ghi_kwh)]}
     results = metrics.summarise_columns(columns, months=months, dt_h=site.dt_h, initial_wh=params.initial_wh,
                                         usable_wh=params.usable_wh, daylight=site.daylight, weather=weather_figures)
-    return Simulation(scenario=sc, site=site, steps=steps, results=results, sources=sources)
+    return SimulationResult(scenario=sc, site=site, steps=steps, results=results, sources=sources)
 
 
 def simulate(sc: Scenario, site: SiteData | None = None, cache: OrientationCache | None = None, *,
-             progress: Callable[[float, str], None] | None = None, compiled: bool = True) -> Simulation:
+             progress: Callable[[float, str], None] | None = None, compiled: bool = True) -> SimulationResult:
     """Simulate the scenario's year. Pass ``site`` and ``cache`` to reuse earlier work."""
     if progress:
         progress(0.0, "weather and loads")

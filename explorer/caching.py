@@ -16,7 +16,7 @@ import json
 import streamlit as st
 
 from core.scenario import Scenario, scenario_to_dict
-from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, run, source_power
+from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, run, source_power
 
 
 def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> str:
@@ -59,7 +59,7 @@ def _orientations(key: str) -> OrientationCache:
 
 
 @st.cache_resource(max_entries=96, show_spinner=False)
-def _simulation(key: str, _sc: Scenario) -> Simulation:
+def _simulation(key: str, _sc: Scenario) -> SimulationResult:
     site = site_data(_sc)
     return run(_sc, site, source_power(_sc, site, orientation_cache(_sc)))
 
@@ -73,7 +73,7 @@ def orientation_cache(sc: Scenario) -> OrientationCache:
     return _orientations(site_key(sc))
 
 
-def simulation(sc: Scenario) -> Simulation:
+def simulation(sc: Scenario) -> SimulationResult:
     """The simulated year of a scenario (with any expansion already added as an array)."""
     return _simulation(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
                                                 "microinverters", "arrays", "grid")), sc)

@@ -16,9 +16,9 @@ def reference_loads_w(sc: Scenario, site, option: str) -> pd.Series:
     backed-up side output meets the backed-up loads and the grid-side output the grid-only loads.
     """
     if sc.grid.metering == "site":
-        values = site.load_backed_w + site.load_grid_w
+        values = site.load_backed_w + site.load_grid_only_w
     elif option == "ac_grid":
-        values = site.load_grid_w
+        values = site.load_grid_only_w
     else:
         values = site.load_backed_w
     return pd.Series(np.asarray(values, dtype=float), index=site.index)

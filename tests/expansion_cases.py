@@ -134,7 +134,7 @@ def hand_scenario(**kw):
 
 
 def synthetic_site(*, days: int = 4, start: str = "2023-06-10", step_s: int = 3600, load_backed_w=2000.0,
-                   load_grid_w=0.0, grid_up=True, temp_air_c: float = 25.0) -> SiteData:
+                   load_grid_only_w=0.0, grid_up=True, temp_air_c: float = 25.0) -> SiteData:
     """Clear-sky days at the hand-built site; loads and grid availability as numbers or per-step arrays."""
     index = pd.date_range(pd.Timestamp(start, tz=TZ), periods=days * 86400 // step_s,
                           freq=pd.Timedelta(seconds=step_s))
@@ -155,5 +155,5 @@ def synthetic_site(*, days: int = 4, start: str = "2023-06-10", step_s: int = 36
         return np.ascontiguousarray(np.broadcast_to(np.asarray(x, dtype=dtype), (n,)))
 
     return SiteData(index=index, step_s=step_s, timezone="America/Denver", latitude=LATITUDE, longitude=LONGITUDE, weather=weather, geometry=geometry,
-                    load_backed_w=series(load_backed_w), load_grid_w=series(load_grid_w),
+                    load_backed_w=series(load_backed_w), load_grid_only_w=series(load_grid_only_w),
                     grid_up=series(grid_up, bool))

@@ -49,7 +49,7 @@ def plant(draw):
     acb = microinverter_output(ac_mod, modules=3, efficiency=0.96, ac_rating_w=350, max_dc_input_w=400, inputs=1)
     acg = microinverter_output(ac_mod * 0.8, modules=2, efficiency=0.95, ac_rating_w=700, max_dc_input_w=800, inputs=2)
     inputs = DispatchInputs(
-        load_backed_w=rng.uniform(0, 3000, STEPS) * draw(st.floats(0, 2)), load_grid_w=rng.uniform(0, 2000, STEPS),
+        load_backed_w=rng.uniform(0, 3000, STEPS) * draw(st.floats(0, 2)), load_grid_only_w=rng.uniform(0, 2000, STEPS),
         dc_out_w=dc.out_w, dc_loss_w=dc.loss_w, ac_backed_out_w=acb.out_w, ac_backed_loss_w=acb.loss_w,
         ac_grid_out_w=acg.out_w, ac_grid_loss_w=acg.loss_w, grid_up=rng.random(STEPS) > draw(st.floats(0, 1)))
     potential = dc_mod + 3 * ac_mod + 2 * ac_mod * 0.8
@@ -66,7 +66,7 @@ def test_energy_identity_holds_every_step_and_for_the_year(case):
     previous = np.concatenate([[p.initial_wh], f["soc_wh"][:-1]])
     stored_change_w = (f["soc_wh"] - previous) / p.dt_h
     curtailed = f["curtailed_dc_w"] + f["curtailed_acb_w"] + f["curtailed_acg_w"]
-    conversion = (f["controller_loss_w"] + f["micro_backed_loss_w"] + f["micro_grid_loss_w"] + f["inverter_loss_w"]
+    conversion = (f["controller_loss_w"] + f["ac_backed_conversion_loss_w"] + f["ac_grid_conversion_loss_w"] + f["inverter_loss_w"]
                   + f["idle_w"] + f["charger_loss_w"])
     left = potential + f["grid_import_w"]
     right = (f["load_served_w"] + f["export_allowed_w"] + f["export_uncontrolled_w"] + curtailed + clipped
@@ -80,12 +80,12 @@ def test_energy_identity_holds_every_step_and_for_the_year(case):
         assert f[name].min() >= -1e-9, name
     assert f["soc_wh"].max() <= p.usable_wh + 1e-9
     assert np.all(f["load_served_w"] + f["unserved_w"]
-                  <= inputs.load_backed_w + inputs.load_grid_w + 1e-6)
+                  <= inputs.load_backed_w + inputs.load_grid_only_w + 1e-6)
 
     # The year's balance error as core.model.metrics reports it agrees.
     index = pd.date_range("2023-06-01", periods=STEPS, freq=pd.Timedelta(hours=p.dt_h), tz="UTC")
     steps = pd.DataFrame({name: f[name] for name in FLOWS}, index=index).assign(
-        load_backed_w=inputs.load_backed_w, load_grid_w=inputs.load_grid_w, grid_up=inputs.grid_up,
+        load_backed_w=inputs.load_backed_w, load_grid_only_w=inputs.load_grid_only_w, grid_up=inputs.grid_up,
         pv_potential_dc_w=potential, pv_potential_ac_w=0.0, clipped_dc_w=clipped, clipped_ac_w=0.0,
         ac_backed_out_w=inputs.ac_backed_out_w, ac_grid_out_w=inputs.ac_grid_out_w)
     res = summarise(steps, dt_h=p.dt_h, initial_wh=p.initial_wh, usable_wh=p.usable_wh,

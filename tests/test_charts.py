@@ -45,7 +45,7 @@ def _steps(hours: int = 48) -> pd.DataFrame:
     sun = np.clip(np.sin((hour - 6) / 12 * np.pi), 0, None)  # 0 at night, 1 at noon
     return pd.DataFrame({
         "load_backed_w": np.full(hours, 300.0),
-        "load_grid_w": np.where(hour == 18, 1000.0, 0.0),
+        "load_grid_only_w": np.where(hour == 18, 1000.0, 0.0),
         "ac_backed_out_w": 400.0 * sun,
         "ac_grid_out_w": np.zeros(hours),
         "dc_out_w": 1000.0 * sun,

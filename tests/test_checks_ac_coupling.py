@@ -53,7 +53,7 @@ def test_charger_absorption_limit_by_hand():
 def test_worst_surplus_as_the_inverter_charger_sees_it():
     steps = pd.DataFrame({
         "ac_backed_out_w": [1000.0, 1000.0, 1000.0], "ac_grid_out_w": [500.0, 2000.0, 2000.0],
-        "load_backed_w": [200.0, 200.0, 100.0], "load_grid_w": [100.0, 100.0, 100.0], "grid_up": [True, True, False]})
+        "load_backed_w": [200.0, 200.0, 100.0], "load_grid_only_w": [100.0, 100.0, 100.0], "grid_up": [True, True, False]})
     # site metering: 1000 + 2000 − 200 − 100 = 2700 W (step 2); in the outage only the backed-up side: 900 W.
     assert worst_ac_surplus_w(steps, "site") == approx(2700.0)
     # inverter metering: only the backed-up side is in view: 1000 − 100 = 900 W (outage) and 800 W.

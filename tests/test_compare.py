@@ -77,7 +77,7 @@ def test_small_battery_and_large_ac_addition_export_or_curtail_where_expected():
         steps = c.options[option].simulation.steps
         leak = steps["export_uncontrolled_w"] > 1e-6
         # only where the AC-coupled output exceeds the loads plus the standing draw, and never more than that surplus
-        surplus = steps["ac_backed_out_w"] + steps["ac_grid_out_w"] - steps["load_backed_w"] - steps["load_grid_w"]
+        surplus = steps["ac_backed_out_w"] + steps["ac_grid_out_w"] - steps["load_backed_w"] - steps["load_grid_only_w"]
         assert (surplus[leak] > 0).all()
         assert (steps["export_uncontrolled_w"][leak] <= surplus[leak] + 30.0 + 1e-6).all()
         # and the battery cannot take more: it is full at the end or the start of the step, or the charger is at

@@ -31,7 +31,7 @@ def params(**changes) -> DispatchParams:
 
 def step(*, lb=0.0, lg=0.0, dc=0.0, acb=0.0, acg=0.0, up=True, p=None):
     inputs = DispatchInputs(
-        load_backed_w=np.array([lb]), load_grid_w=np.array([lg]), dc_out_w=np.array([dc]),
+        load_backed_w=np.array([lb]), load_grid_only_w=np.array([lg]), dc_out_w=np.array([dc]),
         dc_loss_w=np.zeros(1), ac_backed_out_w=np.array([acb]), ac_backed_loss_w=np.zeros(1),
         ac_grid_out_w=np.array([acg]), ac_grid_loss_w=np.zeros(1), grid_up=np.array([up]))
     r = dispatch(inputs, p or params())
@@ -229,7 +229,7 @@ def test_compiled_and_plain_loop_agree():
     rng = np.random.default_rng(3)
     n = 2000
     inputs = DispatchInputs(
-        load_backed_w=rng.uniform(0, 2000, n), load_grid_w=rng.uniform(0, 800, n),
+        load_backed_w=rng.uniform(0, 2000, n), load_grid_only_w=rng.uniform(0, 800, n),
         dc_out_w=rng.uniform(0, 3000, n) * (rng.random(n) < 0.5), dc_loss_w=rng.uniform(0, 50, n),
         ac_backed_out_w=rng.uniform(0, 900, n), ac_backed_loss_w=rng.uniform(0, 30, n),
         ac_grid_out_w=rng.uniform(0, 500, n), ac_grid_loss_w=rng.uniform(0, 20, n), grid_up=rng.random(n) > 0.1)

@@ -49,7 +49,7 @@ def _case(seed: int, variants: int, n: int):
 
 
 def _one(load_b, load_g, up, sources, i, p, compiled=True):
-    inputs = DispatchInputs(load_backed_w=load_b, load_grid_w=load_g, grid_up=up,
+    inputs = DispatchInputs(load_backed_w=load_b, load_grid_only_w=load_g, grid_up=up,
                             **{k: sources[k][i] for k in SOURCE_KEYS})
     return dispatch(inputs, p, compiled=compiled).flows
 

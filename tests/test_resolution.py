@@ -41,7 +41,7 @@ def test_ac_surplus_by_hand():
     import pandas as pd
 
     steps = pd.DataFrame({"ac_backed_out_w": [0.0, 600.0, 600.0], "ac_grid_out_w": [0.0, 0.0, 200.0],
-                          "load_backed_w": [100.0, 100.0, 1000.0], "load_grid_w": [0.0, 0.0, 0.0]})
+                          "load_backed_w": [100.0, 100.0, 1000.0], "load_grid_only_w": [0.0, 0.0, 0.0]})
     out = ac_surplus(steps, 0.25)
     assert out["ac_surplus_kwh"] == approx(500.0 * 0.25 / 1000.0)  # only the middle step: 500 W for 15 min
     assert out["ac_surplus_hours"] == approx(0.25) and out["ac_surplus_peak_w"] == approx(500.0)

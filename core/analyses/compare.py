@@ -29,7 +29,7 @@ from core.analyses.checks import check_options
 from core.analyses.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
 from core.model import economics as econ
 from core.scenario import Scenario
-from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
+from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
 
 #: Uncontrolled export below this counts as none (rounding of the engine's sums), kWh a year.
 EXPORT_EPS_KWH = 1e-3
@@ -44,7 +44,7 @@ class OptionResult:
     option: str
     label: str
     scenario: Scenario
-    simulation: Simulation
+    simulation: SimulationResult
     delta: dict[str, float]
     economics: econ.Economics | None
     # Design checks whose outcome this option changes (for the baseline: the existing system's own).
@@ -88,11 +88,11 @@ class Comparison:
 
 
 # ------------------------------------------------------------------------------------------------ figures
-def _step_kwh(sim: Simulation, column: str) -> float:
+def _step_kwh(sim: SimulationResult, column: str) -> float:
     return float(sim.steps[column].sum() * sim.site.dt_h / 1000.0)
 
 
-def option_delta(base: Simulation, opt: Simulation) -> dict[str, float]:
+def option_delta(base: SimulationResult, opt: SimulationResult) -> dict[str, float]:
     """The option's difference from the existing system (kWh a year unless the key says otherwise).
 
     ``to_loads_added_kwh`` is what the loads get from PV in addition: grid import saved plus load served in
@@ -178,7 +178,7 @@ class Chains:
         return None if self.controller is None else self.controller * self.battery * self.inverter
 
 
-def conversion_chains(sc: Scenario, base: Simulation) -> Chains:
+def conversion_chains(sc: Scenario, base: SimulationResult) -> Chains:
     """The chain efficiencies: the expansion's microinverter and controller from the scenario, the inverter's
     mean efficiency as realised in the existing system's year (its part-load curve at the loads it met)."""
     e = sc.expansion
@@ -298,7 +298,7 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
     site = site or prepare_site(sc)
     cache = cache if cache is not None else OrientationCache()
     results: dict[str, OptionResult] = {}
-    base_sim: Simulation | None = None
+    base_sim: SimulationResult | None = None
     for i, option in enumerate(chosen):
         if progress:
             progress(0.1 + 0.9 * i / len(chosen), OPTION_LABELS[option])

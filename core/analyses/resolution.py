@@ -20,7 +20,7 @@ import pandas as pd
 from core.analyses.options import Layout, applicable_options, layout_of, with_option
 from core.model.metrics import Results
 from core.scenario import Scenario
-from core.simulate import OrientationCache, Simulation, SiteData, prepare_site, simulate
+from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
 from core.timebase import MIN_STEP_S
 
 HOUR_S = 3600
@@ -51,13 +51,13 @@ class ResolutionCheck:
 def ac_surplus(steps: pd.DataFrame, dt_h: float) -> dict[str, float]:
     """AC-coupled output above the loads, before the battery or any curtailment takes it:
     ``max(0, H_acb + H_acg − L_b − L_g)`` per step — energy (kWh), hours and the largest step mean (W)."""
-    s = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"] - steps["load_backed_w"] - steps["load_grid_w"]).to_numpy()
+    s = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"] - steps["load_backed_w"] - steps["load_grid_only_w"]).to_numpy()
     pos = np.maximum(s, 0.0)
     return {"ac_surplus_kwh": float(pos.sum() * dt_h / 1000.0), "ac_surplus_hours": float((pos > 1e-6).sum() * dt_h),
             "ac_surplus_peak_w": float(pos.max()) if pos.size else 0.0}
 
 
-def _figures(sim: Simulation) -> dict[str, float]:
+def _figures(sim: SimulationResult) -> dict[str, float]:
     e, h = sim.results.energy_kwh, sim.results.hours
     return {**ac_surplus(sim.steps, sim.site.dt_h), "exported_kwh": e["exported"],
             "exported_uncontrolled_kwh": e["exported_uncontrolled"], "export_hours": h["export"],

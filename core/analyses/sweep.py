@@ -116,7 +116,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
         for i, (_, _, s) in enumerate(variants):
             for key, row in _source_rows(s).items():
                 buffers[key][i] = row
-        flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_w, site.grid_up,
+        flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_only_w, site.grid_up,
                                        {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
                                        out=buffers["flows"][:k])
         return [_figures(flows[i], s, site.dt_h) for i, (_, _, s) in enumerate(variants)]

@@ -48,7 +48,7 @@ FLOWS = (
     "load_served_w", "unserved_w",
     "grid_import_w", "grid_import_standing_w", "export_allowed_w", "export_uncontrolled_w",
     "curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w",  # module side: DC never converted
-    "controller_loss_w", "micro_backed_loss_w", "micro_grid_loss_w",  # losses on the harvested part
+    "controller_loss_w", "ac_backed_conversion_loss_w", "ac_grid_conversion_loss_w",  # losses on the harvested part
     "inverter_loss_w", "idle_w", "charger_loss_w",
     "battery_charge_w", "battery_discharge_w", "battery_loss_w",  # bus side of the battery
     "inverter_ac_w", "charger_ac_w",
@@ -85,7 +85,7 @@ class DispatchParams:
 @dataclass(frozen=True)
 class DispatchInputs:
     load_backed_w: np.ndarray
-    load_grid_w: np.ndarray
+    load_grid_only_w: np.ndarray
     dc_out_w: np.ndarray  # controllers' output on the DC bus (after clipping)
     dc_loss_w: np.ndarray  # controllers' conversion loss belonging to that output
     ac_backed_out_w: np.ndarray  # microinverters on the backed-up side
@@ -378,7 +378,7 @@ def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool =
     """Run the engine over all steps; see the module docstring for the rules."""
     n = int(np.asarray(inputs.load_backed_w).shape[0])
     args = [_as_float(getattr(inputs, name), n) for name in (
-        "load_backed_w", "load_grid_w", "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w",
+        "load_backed_w", "load_grid_only_w", "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w",
         "ac_grid_out_w", "ac_grid_loss_w")]
     up = np.ascontiguousarray(np.broadcast_to(np.asarray(inputs.grid_up, dtype=np.bool_), (n,)))
     p = params
@@ -412,7 +412,7 @@ except NameError:  # pragma: no cover - numba is a declared dependency
     _compiled_batch = _batch
 
 
-def dispatch_many(load_backed_w, load_grid_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
+def dispatch_many(load_backed_w, load_grid_only_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
                   *, compiled: bool = True, out: np.ndarray | None = None) -> np.ndarray:
     """Run the engine for many source variants that share loads, grid and plant (a sweep).
 
@@ -433,7 +433,7 @@ def dispatch_many(load_backed_w, load_grid_w, grid_up, sources: dict[str, np.nda
     elif out.shape != (k, len(FLOWS), n) or out.dtype != np.float64 or not out.flags.c_contiguous:
         raise ValueError(f"out must be a C-ordered float64 array of shape {(k, len(FLOWS), n)}")
     p = params
-    args = (lb, _as_float(load_grid_w, n), *rows,
+    args = (lb, _as_float(load_grid_only_w, n), *rows,
             np.ascontiguousarray(np.broadcast_to(np.asarray(grid_up, dtype=np.bool_), (n,))),
             float(p.dt_h), float(p.usable_wh), float(p.initial_wh), float(p.reserve_wh), float(p.floor_wh),
             float(p.charge_max_w), float(p.discharge_max_w), float(p.roundtrip_efficiency),

@@ -23,11 +23,11 @@ ENERGY_KEYS = (
     "unserved_backed_up",
 )
 
-_CONVERSION_LOSSES = ("controller_loss_w", "micro_backed_loss_w", "micro_grid_loss_w", "inverter_loss_w",
+_CONVERSION_LOSSES = ("controller_loss_w", "ac_backed_conversion_loss_w", "ac_grid_conversion_loss_w", "inverter_loss_w",
                       "idle_w", "charger_loss_w")
 #: Columns of the per-step table that the figures need (W unless named otherwise; ``grid_up`` is boolean).
 INPUT_COLUMNS = (
-    "load_backed_w", "load_grid_w", "grid_up", "load_served_w", "unserved_w", "pv_potential_dc_w",
+    "load_backed_w", "load_grid_only_w", "grid_up", "load_served_w", "unserved_w", "pv_potential_dc_w",
     "pv_potential_ac_w", "curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w", "clipped_dc_w", "clipped_ac_w",
     "export_allowed_w", "export_uncontrolled_w", "grid_import_w", "grid_import_standing_w", "battery_charge_w",
     "battery_discharge_w", "battery_loss_w", "soc_wh", "ac_backed_used_w", "ac_grid_used_w", "inverter_pv_dc_w",
@@ -47,11 +47,11 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     has half a million rows (docs/performance.md).
     """
     d: dict[str, np.ndarray] = {}
-    d["load"] = c["load_backed_w"] + c["load_grid_w"]
+    d["load"] = c["load_backed_w"] + c["load_grid_only_w"]
     d["load_served"] = c["load_served_w"]
     d["unserved"] = c["unserved_w"]
     # Grid-only loads are dropped in every outage by design; the backed-up part is what ride-through is about.
-    d["unserved_backed_up"] = np.maximum(c["unserved_w"] - c["load_grid_w"] * ~np.asarray(c["grid_up"], dtype=bool),
+    d["unserved_backed_up"] = np.maximum(c["unserved_w"] - c["load_grid_only_w"] * ~np.asarray(c["grid_up"], dtype=bool),
                                          0.0)
     d["pv_potential_dc"] = c["pv_potential_dc_w"]
     d["pv_potential_ac"] = c["pv_potential_ac_w"]

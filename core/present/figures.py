@@ -101,7 +101,7 @@ def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
     frame = pd.DataFrame({
         "hour": hour,
         "Backed-up loads": part["load_backed_w"].to_numpy(),
-        "All loads": (part["load_backed_w"] + part["load_grid_w"]).to_numpy(),
+        "All loads": (part["load_backed_w"] + part["load_grid_only_w"]).to_numpy(),
         "AC-coupled PV output": (part["ac_backed_out_w"] + part["ac_grid_out_w"]).to_numpy(),
         "DC-coupled PV output": part["dc_out_w"].to_numpy(),
     })
@@ -125,7 +125,7 @@ def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | 
     base load takes, and must go into the battery, be curtailed or leave the site.
     """
     ac = steps["ac_backed_out_w"] + steps["ac_grid_out_w"]
-    load = loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_w"]
+    load = loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"]
     frame = pd.DataFrame({"month": steps.index.month, "hour": steps.index.hour, "ac_w": ac.to_numpy(),
                           "load_w": np.asarray(load, dtype=float)})
     means = frame.groupby(["month", "hour"], as_index=False).mean()
@@ -146,7 +146,7 @@ def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
     """Duration curve over the daylight steps: AC-coupled output minus the load at that moment (W), sorted
     from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``."""
     ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
-    load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_w"], dtype=float)
+    load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"], dtype=float)
     day = np.asarray(daylight, dtype=bool)
     surplus = np.sort((ac - load)[day])[::-1]
     return pd.DataFrame({"hours": np.arange(1, len(surplus) + 1) * dt_h, "surplus_w": surplus})
@@ -210,7 +210,7 @@ def headline_figures(results, baseline, *, payback_years: float | None = None,
 
 
 def secondary_figures(sim, baseline_sim) -> list[Headline]:
-    """Further figures of an option against the existing system (both :class:`core.simulate.Simulation`)."""
+    """Further figures of an option against the existing system (both :class:`core.simulate.SimulationResult`)."""
     r, b = sim.results, baseline_sim.results
     e, eb = r.energy_kwh, b.energy_kwh
     dt_h, dt_b = sim.site.dt_h, baseline_sim.site.dt_h

@@ -244,7 +244,7 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
                 today: dt.date | None = None) -> str:
     """The report as one HTML document.
 
-    ``sim`` and ``baseline`` are :class:`core.simulate.Simulation` of the option and of the existing system;
+    ``sim`` and ``baseline`` are :class:`core.simulate.SimulationResult` of the option and of the existing system;
     ``options`` a table of the options side by side (first column the figure, then one column per option);
     ``checks`` design checks (objects with ``status``, ``id``, ``sentence``, ``source`` and ``caution``).
     """

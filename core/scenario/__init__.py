@@ -25,7 +25,7 @@ from core.scenario.schema import (  # noqa: F401  (the package's public names)
     Obstacle,
     RandomOutages,
     Scenario,
-    Simulation,
+    SimulationSettings,
     Site,
     Tariff,
     Weather,

@@ -265,7 +265,7 @@ class Tariff:
 
 
 @dataclass(frozen=True)
-class Simulation:
+class SimulationSettings:
     # None = the weather's own step. Finer than a minute is refused: a year at 1 s is 31.5 million steps.
     step_s: int | None = field(default=None, metadata=_num(60, 3600))
     design_low_temp_c: float | None = field(default=None, metadata=_num(-60, 40))
@@ -289,7 +289,7 @@ class Scenario:
     expansion: Expansion | None = None
     design: Design | None = None
     tariff: Tariff = field(default_factory=Tariff)
-    simulation: Simulation = field(default_factory=Simulation)
+    simulation: SimulationSettings = field(default_factory=SimulationSettings)
     schema: int = SCHEMA
     # Where relative paths are resolved from; not part of the file and not compared.
     base_dir: Path = field(default=Path("."), compare=False, repr=False)

@@ -160,7 +160,7 @@ def render_current(sim) -> None:
         for channel, label in (("backed_up", "Backed-up loads"), ("grid_only", "Grid-only loads")):
             notes = site.load_notes.get(channel) or {}
             quality = notes.get("quality")
-            series = site.load_backed_w if channel == "backed_up" else site.load_grid_w
+            series = site.load_backed_w if channel == "backed_up" else site.load_grid_only_w
             total = float(np.sum(series) * site.dt_h / 1000.0)
             with st.expander(f"{label}: {total:,.0f} kWh per year", expanded=channel == "backed_up"):
                 if quality is not None:

@@ -51,7 +51,7 @@ def _tiny_case(n: int = 48):
         charger_rating_w=2000.0, charger_efficiency=0.93, idle_w=20.0, standing_draw_w=30.0, metering_site=True,
         export_allowed=False, export_limit_w=0.0, limiter=False, recharge_reserve_from_grid=True)
     a = {k: rng.uniform(0.0, 1000.0, n) for k in ("lb", "lg", "dc", "acb", "acg")}
-    inputs = DispatchInputs(load_backed_w=a["lb"], load_grid_w=a["lg"], dc_out_w=a["dc"], dc_loss_w=a["dc"] * 0.03,
+    inputs = DispatchInputs(load_backed_w=a["lb"], load_grid_only_w=a["lg"], dc_out_w=a["dc"], dc_loss_w=a["dc"] * 0.03,
                             ac_backed_out_w=a["acb"], ac_backed_loss_w=a["acb"] * 0.04, ac_grid_out_w=a["acg"],
                             ac_grid_loss_w=a["acg"] * 0.04, grid_up=np.ones(n, dtype=bool))
     return inputs, params
@@ -67,7 +67,7 @@ def warm_engine() -> None:
     dispatch(inputs, params)
     sources = {k: np.stack([getattr(inputs, k)] * 2) for k in (
         "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")}
-    dispatch_many(inputs.load_backed_w, inputs.load_grid_w, inputs.grid_up, sources, params)
+    dispatch_many(inputs.load_backed_w, inputs.load_grid_only_w, inputs.grid_up, sources, params)
 
 
 def first_calls() -> dict:
@@ -83,7 +83,7 @@ def first_calls() -> dict:
     sources = {k: np.stack([getattr(inputs, k)] * 2) for k in (
         "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")}
     t = time.perf_counter()
-    dispatch_many(inputs.load_backed_w, inputs.load_grid_w, inputs.grid_up, sources, params)
+    dispatch_many(inputs.load_backed_w, inputs.load_grid_only_w, inputs.grid_up, sources, params)
     t_many = time.perf_counter() - t
     return {"import_s": t_import, "dispatch_s": t_one, "dispatch_many_s": t_many}
 

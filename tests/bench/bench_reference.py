@@ -35,7 +35,7 @@ class Shared:
     weather: pd.DataFrame
     location: Location
     load_backed_w: np.ndarray
-    load_grid_w: np.ndarray
+    load_grid_only_w: np.ndarray
     grid_up: np.ndarray
     dt_h: float
 
@@ -47,7 +47,7 @@ def shared_inputs(sc: Scenario, site: SiteData) -> Shared:
     offset_h = site.index.tz.utcoffset(None).total_seconds() / 3600.0
     location = Location(site.latitude, site.longitude, tz=offset_h, altitude=sc.site.altitude_m)
     return Shared(weather=weather, location=location, load_backed_w=site.load_backed_w,
-                  load_grid_w=site.load_grid_w, grid_up=site.grid_up, dt_h=site.dt_h)
+                  load_grid_only_w=site.load_grid_only_w, grid_up=site.grid_up, dt_h=site.dt_h)
 
 
 def modelchain_array(sc: Scenario, array: Array, shared: Shared) -> tuple[np.ndarray, np.ndarray]:
@@ -120,7 +120,7 @@ def reference_year(sc: Scenario, shared: Shared) -> ReferenceYear:
 
     params = dispatch_params(sc, shared.dt_h)
     inputs = dispatch.DispatchInputs(
-        load_backed_w=shared.load_backed_w, load_grid_w=shared.load_grid_w,
+        load_backed_w=shared.load_backed_w, load_grid_only_w=shared.load_grid_only_w,
         dc_out_w=total(dc_parts, "out_w"), dc_loss_w=total(dc_parts, "loss_w"),
         ac_backed_out_w=total(ac["backed_up"], "out_w"), ac_backed_loss_w=total(ac["backed_up"], "loss_w"),
         ac_grid_out_w=total(ac["grid"], "out_w"), ac_grid_loss_w=total(ac["grid"], "loss_w"), grid_up=shared.grid_up)

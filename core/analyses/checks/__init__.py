@@ -55,7 +55,7 @@ def weather_temperatures(sc: Scenario) -> np.ndarray:
 def run_checks(sc: Scenario, sim=None, *, cache=None, option: str = "") -> list[Check]:
     """Every design check for the scenario's arrays as given.
 
-    ``sim`` (a :class:`core.simulate.Simulation` of this scenario) adds the checks that need a year: clipping
+    ``sim`` (a :class:`core.simulate.SimulationResult` of this scenario) adds the checks that need a year: clipping
     shares, the worst step's AC surplus, uncontrolled export, the annual inter-row shading loss; without it
     they fall back to nameplate figures or are left out. The design temperatures come from
     ``[simulation]`` when given, else from the simulation's weather, else from the weather file.

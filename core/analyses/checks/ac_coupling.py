@@ -52,7 +52,7 @@ def worst_ac_surplus_w(steps, metering: str) -> float:
     acb = steps["ac_backed_out_w"].to_numpy(dtype=float)
     acg = steps["ac_grid_out_w"].to_numpy(dtype=float)
     lb = steps["load_backed_w"].to_numpy(dtype=float)
-    lg = steps["load_grid_w"].to_numpy(dtype=float)
+    lg = steps["load_grid_only_w"].to_numpy(dtype=float)
     up = steps["grid_up"].to_numpy(dtype=bool)
     seen = acb - lb if metering == "inverter" else acb + acg - lb - lg
     surplus = np.where(up, seen, acb - lb)
