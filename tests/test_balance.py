@@ -1,4 +1,4 @@
-"""The energy identity of DESIGN.md §5 on random inputs (hypothesis), per step and for the year:
+"""The energy identity of docs/design.md §4 on random inputs (hypothesis), per step and for the year:
 
 module DC potential + grid import
   = loads served + export + curtailed + clipped + conversion losses + battery losses + ΔE_stored

@@ -118,7 +118,7 @@ def test_outage_events_from_a_hand_made_outage():
 
 
 def test_number_formats():
-    # DESIGN.md §9: kWh for a year without decimals, W for powers, % with one decimal
+    # docs/design.md §5: kWh for a year without decimals, W for powers, % with one decimal
     assert figures.fmt_kwh(1234.4) == "1,234 kWh"
     assert figures.fmt_kwh(-0.3, signed=True) == "+0 kWh"
     assert figures.fmt_w(349.6) == "350 W"

@@ -88,7 +88,7 @@ def test_hand_worked_string_by_the_coefficient_and_the_table_methods():
 
 
 @pytest.mark.parametrize("t, factor", [
-    # NEC 2017/2020 Table 690.7(A), crystalline silicon (from memory, REFERENCES.md); row edges included.
+    # NEC 2017/2020 Table 690.7(A), crystalline silicon (from memory, docs/references.md); row edges included.
     (24, 1.02), (20, 1.02), (19, 1.04), (15, 1.04), (14, 1.06), (10, 1.06), (9, 1.08), (5, 1.08), (4, 1.10),
     (0, 1.10), (-1, 1.12), (-5, 1.12), (-6, 1.14), (-10, 1.14), (-11, 1.16), (-15, 1.16), (-16, 1.18),
     (-20, 1.18), (-21, 1.20), (-25, 1.20), (-26, 1.21), (-30, 1.21), (-31, 1.23), (-35, 1.23), (-36, 1.25),

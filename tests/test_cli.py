@@ -39,7 +39,7 @@ def test_simulate_json_has_the_promised_keys(sample_json):
 
 def test_simulate_balance_closes_and_months_add_up(sample_json):
     e = sample_json["energy_kwh"]
-    # DESIGN.md §5: the balance error stays under 1e-6 of the load.
+    # docs/design.md §4: the balance error stays under 1e-6 of the load.
     assert abs(e["balance_error"]) < 1e-6 * e["load"]
     for key in ("load", "harvested", "grid_import", "curtailed"):
         assert sum(m[key] for m in sample_json["months"]) == pytest.approx(e[key], rel=1e-9)

@@ -58,7 +58,7 @@ def test_check_json_on_the_sample_site(capsys):
         assert c["sentence"] and c["source"]
         if c["id"].startswith(("strings.voc", "strings.current", "micro.voc", "ac_coupling.ratio",
                                "ac_coupling.uncontrolled_export", "frequency_watt")):
-            assert c["caution"], c["id"]  # safety checks carry their caution (DESIGN.md §8)
+            assert c["caution"], c["id"]  # safety checks carry their caution (docs/design.md §6)
         if c["id"] == "ac_coupling.uncontrolled_export":
             assert (c["status"] == "fail") == (c["value"] > 1e-3)
 

@@ -1,6 +1,6 @@
 """Hand-worked dispatch cases: one or two steps whose flows are worked out in the comments.
 
-The rules are DESIGN.md §5. Unless a case says otherwise: Δt = 1 h, battery 10 000 Wh usable,
+The rules are docs/design.md §4. Unless a case says otherwise: Δt = 1 h, battery 10 000 Wh usable,
 round-trip efficiency 0.81 (so charge and discharge are each √0.81 = 0.9), inverter efficiency 0.9
 flat, charger efficiency 0.9, standing draw 30 W, site metering, zero export, no limiter, no idle draw.
 """

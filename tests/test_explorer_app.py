@@ -1,7 +1,7 @@
 """The explorer page under Streamlit's AppTest: every sample site, the panel-count and coupling controls, a bad
 upload, and a saved scenario that loads back to the same figures.
 
-Expected directions come from the energy balance of DESIGN.md §5, not from stored results: more AC-coupled
+Expected directions come from the energy balance of docs/design.md §4, not from stored results: more AC-coupled
 panels put out more AC-coupled energy, and since the engine never takes away curtailment to make room for
 energy it cannot otherwise place, curtailment does not fall as output rises.
 """
@@ -70,7 +70,7 @@ def test_runs_on_every_sample_site(monkeypatch, site):
     headline = _headline(at)
     assert "Loads supplied from PV" in headline and headline["Loads supplied from PV"].endswith("kWh")
     assert headline["Self-sufficiency"].endswith("%")
-    # the safety cautions of DESIGN.md §8 are on the page
+    # the safety cautions of docs/design.md §6 are on the page
     assert any("licensed electrician" in md.value for md in at.markdown)
 
 

@@ -56,7 +56,7 @@ def _modelchain_dc_kwh(tmy3_name: str, tilt: float, azimuth: float, sapm_set: st
 
 
 def test_chain_matches_pvlib_modelchain_on_sand_point_tmy3(sand_point):
-    # Independent cross-check (REFERENCES.md): pvlib's shipped Sand Point AK TMY3 (703165TY.csv), tilt 30,
+    # Independent cross-check (docs/references.md): pvlib's shipped Sand Point AK TMY3 (703165TY.csv), tilt 30,
     # azimuth 180, PVWatts DC with the same pdc0 and gamma, SAPM open-rack glass/polymer temperature parameters,
     # Perez transposition, physical AOI on the beam, no other losses (ModelChain applies no IAM to diffuse light,
     # so diffuse_iam=1.0 here): annual DC energy within 2 %.
@@ -107,7 +107,7 @@ def test_azimuth_convention_south_beats_north_in_the_north(sand_point):
 
 
 def test_sapm_cell_temperature_uses_king_2004_parameters():
-    # King et al., SAND2004-3535 (2004), Table 1 (from memory, as listed in REFERENCES.md and in
+    # King et al., SAND2004-3535 (2004), Table 1 (from memory, as listed in docs/references.md and in
     # pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS): close roof mount glass/glass a=-2.98, b=-0.0471, dT=1;
     # open rack glass/polymer a=-3.56, b=-0.075, dT=3.
     # T_cell = E exp(a + b WS) + T_air + E/1000 dT at E = 800 W/m2, 25 C air, 2 m/s wind.

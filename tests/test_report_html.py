@@ -61,7 +61,7 @@ def test_report_is_offline_and_carries_every_caution(sims):
     assert urls <= {"http://www.w3.org/2000/svg"}
     assert not [v for k, v in p.attrs if k in ("src", "href")]
     body = " ".join(p.text)
-    for caution in report_html.SAFETY_CAUTIONS:  # DESIGN.md §8
+    for caution in report_html.SAFETY_CAUTIONS:  # docs/design.md §6
         assert caution in body
 
 

@@ -41,7 +41,7 @@ def extraterrestrial_by_day(year):
 
 def test_cpr_hourly_ratios_of_a_day_sum_to_one():
     # Collares-Pereira & Rabl, Solar Energy 22 (1979) 155-164: the hourly shares r_t of a day's global irradiation
-    # sum to 1 within 1 % (REFERENCES.md), for latitudes up to 50 deg and every day of the year.
+    # sum to 1 within 1 % (docs/references.md), for latitudes up to 50 deg and every day of the year.
     starts = 15.0 * (np.arange(24) - 12.0)  # hour angles of the starts of the 24 solar hours
     for latitude in range(-50, 51, 10):
         ws = sunset_hour_angle_deg(np.arange(1, 366), latitude)
@@ -68,7 +68,7 @@ def test_monthly_ghi_and_clearness_match_the_targets(year, extraterrestrial_by_d
     months = data.index.month
     days = data.groupby(months).size().to_numpy() / 24
     ghi_kwh_day = data["ghi"].groupby(months).sum().to_numpy() / 1000 / days
-    # REFERENCES.md (Bendt et al. 1981 row): generated monthly mean clearness within 2 % of the target.
+    # docs/references.md (Bendt et al. 1981): generated monthly mean clearness within 2 % of the target.
     np.testing.assert_allclose(ghi_kwh_day, GHI, rtol=0.02)
     h_day = data["ghi"].groupby(data.index.date).sum()
     kt_day = h_day.to_numpy() / extraterrestrial_by_day.to_numpy()

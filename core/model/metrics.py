@@ -1,4 +1,4 @@
-"""Energy balance, key figures and the base-load view of one simulated year (DESIGN.md §6).
+"""Energy balance, key figures and the base-load view of one simulated year (docs/design.md §5).
 
 Input is the table of per-step flows (W, step means) that the orchestrator assembles; output is a
 small record of year and month figures. Ratios follow Luthander et al., "Photovoltaic

@@ -18,7 +18,7 @@ from core.model.metrics import ENERGY_KEYS
 from core.present import figures as fig
 from core.present.safety import SAFETY_CAUTIONS
 
-#: Readable names of the year's energy figures (the balance of DESIGN.md §5, in report order).
+#: Readable names of the year's energy figures (the balance of docs/design.md §4, in report order).
 ENERGY_LABELS = {
     "load": "Load", "load_served": "Load served", "unserved": "Unserved (outages)",
     "pv_potential": "PV potential (module DC)", "pv_potential_dc": "  DC-coupled arrays",

@@ -1,6 +1,6 @@
-"""The usual cautions (DESIGN.md §8): one wording for the page, the report and the README."""
+"""The usual cautions (docs/design.md §6): one wording for the page, the report and the README."""
 
-#: The cautions of DESIGN.md §8, shown on the page and in the report.
+#: The cautions of docs/design.md §6, shown on the page and in the report.
 SAFETY_CAUTIONS = (
     "DC strings carry dangerous voltages, even in weak light, and can sustain arcs; check string voltages against "
     "the coldest expected temperature and follow the equipment's instructions.",

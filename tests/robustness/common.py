@@ -164,7 +164,7 @@ SIGNED = ("stored_change", "balance_error")
 
 def sanity_problems(result: dict) -> list[str]:
     """What is wrong with a simulated year's figures: NaN or infinity anywhere in the JSON, a negative energy, or
-    an energy balance (DESIGN.md §5) that does not close to 1e-6 relative when recomputed from its terms."""
+    an energy balance (docs/design.md §4) that does not close to 1e-6 relative when recomputed from its terms."""
     problems = []
     try:
         json.dumps(result, allow_nan=False)

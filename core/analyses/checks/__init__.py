@@ -3,7 +3,7 @@
 :func:`run_checks` applies every check to a scenario as given (its ``arrays``); :func:`check_options` runs them
 for the existing system and for each expansion option, keeping for an option only what differs from the
 existing system. Each :class:`Check` has an id, a status (pass / warn / fail), the value and the limit, one
-plain sentence, its source, and — where the check concerns safety — its caution (DESIGN.md §8).
+plain sentence, its source, and — where the check concerns safety — its caution (docs/design.md §6).
 
 One concern per file: :mod:`.strings` (DC strings on controllers), :mod:`.clipping` (controller output limit),
 :mod:`.microinverter`, :mod:`.ac_coupling` (rating, battery absorption, uncontrolled export),

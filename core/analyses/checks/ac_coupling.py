@@ -47,7 +47,7 @@ def worst_ac_surplus_w(steps, metering: str) -> float:
 
     Grid up, site metering: ``H_acb + H_acg − L_b − L_g``; inverter metering: ``H_acb − L_b`` (the grid side
     is outside its view); in an outage ``H_acb − L_b`` (grid-side units stop). Converter outputs before any
-    curtailment (DESIGN.md §5).
+    curtailment (docs/design.md §4).
     """
     acb = steps["ac_backed_out_w"].to_numpy(dtype=float)
     acg = steps["ac_grid_out_w"].to_numpy(dtype=float)
@@ -98,7 +98,7 @@ def ac_coupling_checks(sc: Scenario, sim=None) -> list[Check]:
         sentence=(f"AC-coupled surplus over the loads up to {surplus:.0f} W ({basis}) against {limit:.0f} W that the "
                   f"charger (its rating, and the battery's charge limit) can absorb: {what}. When the battery is "
                   "full none of it can be absorbed."),
-        source="DESIGN.md §5 engine rules; charger and battery datasheet limits",
+        source="charger and battery datasheet limits (common practice)",
         caution=CAUTION_BATTERY if status != "pass" else None, subject="system"))
     if sim is not None:
         e = sim.results.energy_kwh

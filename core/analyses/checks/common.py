@@ -12,7 +12,7 @@ from core.scenario import Scenario
 Status = Literal["pass", "warn", "fail"]
 STATUSES: tuple[Status, ...] = ("pass", "warn", "fail")
 
-#: The cautions of DESIGN.md §8, one per kind of hazard; every check that concerns safety carries one.
+#: The cautions of docs/design.md §6, one per kind of hazard; every check that concerns safety carries one.
 CAUTION_DC = ("DC strings carry dangerous voltages and can arc: a string above the controller's voltage limit can "
               "destroy it and start a fire. Have the design checked and the work done by a qualified installer.")
 CAUTION_AC = ("AC work and any grid-parallel generation must be done and signed off by a licensed electrician under "
@@ -40,7 +40,7 @@ class Check:
     ``id`` names the rule (e.g. ``strings.voc_cold``), ``subject`` what it was applied to (a controller, an
     array, the system), ``value`` and ``limit`` the compared figures in ``unit``; ``sentence`` says in plain
     words what was found and what to do; ``source`` names the standard, or says "common practice" or "from
-    memory"; ``caution`` is the safety caution (DESIGN.md §8) for checks that concern safety; ``option`` is
+    memory"; ``caution`` is the safety caution (docs/design.md §6) for checks that concern safety; ``option`` is
     the expansion option the check was run for (empty for the scenario as given).
     """
 

@@ -5,7 +5,7 @@ Physics in small pure functions; :func:`string_checks` applies them to every con
 * Maximum string voltage by the datasheet-coefficient method of NFPA 70 (NEC) 690.7(A)(1):
   ``Voc,max = n · Voc,STC · [1 + β · (T_min − 25 °C)]``.
 * Cross-check by NEC 2017/2020 Table 690.7(A) (crystalline and multicrystalline silicon; values from memory,
-  see REFERENCES.md). The NEC lets the table stand in where the maker gives no coefficient; with a coefficient
+  see docs/references.md). The NEC lets the table stand in where the maker gives no coefficient; with a coefficient
   the coefficient method governs, so the table result only warns.
 * Maximum PV circuit current, NEC 690.8(A)(1): ``1.25 × Isc`` per parallel string (from memory).
 * Vmp in hot sun against the MPPT window and above the battery voltage plus the controller's margin; Vmp is
@@ -27,7 +27,7 @@ from core.analyses.checks.common import (
 from core.scenario import Array, Scenario
 
 #: NEC 2017/2020 Table 690.7(A), crystalline and multicrystalline silicon: (lowest °C of the row, factor).
-#: A row "24 to 20" covers 20 ≤ T ≤ 24 °C. Values from memory (REFERENCES.md).
+#: A row "24 to 20" covers 20 ≤ T ≤ 24 °C. Values from memory (docs/references.md).
 NEC_690_7_TABLE = (
     (20, 1.02), (15, 1.04), (10, 1.06), (5, 1.08), (0, 1.10), (-5, 1.12), (-10, 1.14), (-15, 1.16),
     (-20, 1.18), (-25, 1.20), (-30, 1.21), (-35, 1.23), (-40, 1.25),
