@@ -1,20 +1,22 @@
 """The standalone HTML report of one what-if: figures, charts as inline SVG, design checks and safety cautions.
 
-One file, no scripts and nothing fetched at view time: the charts are SVG drawn here from the same tidy tables
-(:mod:`core.present.figures`) that the explorer draws with Altair, so the report opens offline in any browser and prints.
+One file, no scripts and nothing fetched at view time: the charts are the page's own Altair charts
+(:mod:`core.present.charts`, over the tidy tables of :mod:`core.present.figures`) rendered to inline SVG with
+vl-convert, so the report opens offline in any browser and prints.
 """
 
 from __future__ import annotations
 
 import datetime as dt
 import html
-import math
+import re
 from collections.abc import Sequence
 
-import numpy as np
 import pandas as pd
+import vl_convert
 
 from core.model.metrics import ENERGY_KEYS
+from core.present import charts
 from core.present import figures as fig
 from core.present.safety import SAFETY_CAUTIONS
 
@@ -28,179 +30,27 @@ ENERGY_LABELS = {
     "battery_charge": "Battery charge", "battery_discharge": "Battery discharge", "losses": "Losses",
     "conversion_losses": "  conversion", "battery_losses": "  battery", "stored_change": "Stored energy change",
     "balance_error": "Balance error", "pv_direct": "PV used directly", "pv_to_battery": "PV into the battery",
-    "ac_direct": "AC-coupled PV used directly",
+    "ac_direct": "AC-coupled PV used directly", "unserved_backed_up": "Unserved backed-up loads",
 }
 
-_W, _H = 760, 300
-_M = {"left": 64, "right": 64, "top": 44, "bottom": 70}
+#: Width of a chart in the report (px); the page's charts fill their container instead.
+CHART_WIDTH = 720
 
 
 def _e(text) -> str:
     return html.escape(str(text), quote=True)
 
 
-def nice_ticks(lo: float, hi: float, n: int = 5) -> list[float]:
-    """Round tick values covering [lo, hi] (steps of 1, 2 or 5 × a power of ten)."""
-    if not (math.isfinite(lo) and math.isfinite(hi)) or hi <= lo:
-        hi = lo + 1.0
-    raw = (hi - lo) / max(n, 1)
-    mag = 10 ** math.floor(math.log10(raw))
-    step = next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
-    start = math.floor(lo / step) * step
-    ticks = []
-    t = start
-    while t <= hi + step * 1e-9:
-        ticks.append(round(t, 10))
-        t += step
-    if ticks[-1] < hi:
-        ticks.append(ticks[-1] + step)
-    return ticks
-
-
-def _frame_svg(body: list[str], title: str, subtitle: str, legend: Sequence[tuple[str, str, bool]] = (),
-               height: int = _H) -> str:
-    """The SVG around a plot: title, subtitle and a legend in words (label, colour, dashed)."""
-    # lay the legend out first: it may need more than one row
-    placed, x, row = [], _M["left"], 0
-    for label, colour, dashed in legend:
-        width = 30 + 6.2 * len(label)
-        if x + width > _W - 8 and x > _M["left"]:
-            x, row = _M["left"], row + 1
-        placed.append((x, row, label, colour, dashed))
-        x += width
-    total = height + 16 * row
-    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_W} {total}" width="100%" role="img" '
-           f'aria-label="{_e(title)}" font-family="sans-serif" font-size="11">',
-           f"<title>{_e(title)}</title>",
-           f'<text x="{_M["left"]}" y="16" font-size="14" font-weight="bold">{_e(title)}</text>',
-           f'<text x="{_M["left"]}" y="32" fill="#444">{_e(subtitle)}</text>', *body]
-    for x, row, label, colour, dashed in placed:
-        y = height - 14 + 16 * row
-        dash = ' stroke-dasharray="6 4"' if dashed else ""
-        out.append(f'<line x1="{x}" y1="{y - 4}" x2="{x + 18}" y2="{y - 4}" stroke="{colour}" stroke-width="6"{dash}/>')
-        out.append(f'<text x="{x + 22}" y="{y}">{_e(label)}</text>')
-    out.append("</svg>")
-    return "\n".join(out)
-
-
-def _y_axis(ticks: list[float], y_of, title: str, *, right: bool = False, fmt: str = "{:,.0f}") -> list[str]:
-    x = _W - _M["right"] if right else _M["left"]
-    anchor, dx = ("start", 6) if right else ("end", -6)
-    out = []
-    for t in ticks:
-        y = y_of(t)
-        if not right:
-            out.append(f'<line x1="{_M["left"]}" x2="{_W - _M["right"]}" y1="{y:.1f}" y2="{y:.1f}" stroke="#ddd"/>')
-        out.append(f'<text x="{x + dx}" y="{y + 4:.1f}" text-anchor="{anchor}">{_e(fmt.format(t))}</text>')
-    mid = (_M["top"] + _H - _M["bottom"]) / 2
-    tx = _W - 14 if right else 14
-    out.append(f'<text transform="translate({tx},{mid:.0f}) rotate(-90)" text-anchor="middle">{_e(title)}</text>')
-    return out
-
-
-def svg_stacked_bars(frame: pd.DataFrame, colours: dict[str, str], *, title: str, subtitle: str,
-                     y_title: str) -> str:
-    """Monthly stacked bars from a ``pv_destinations_by_month`` frame."""
-    table = frame.pivot_table(index="month", columns="destination", values="kwh", aggfunc="sum", sort=False)
-    series = [s for s in colours if s in table.columns]
-    totals = table[series].sum(axis=1) if series else pd.Series(dtype=float)
-    ticks = nice_ticks(0.0, float(totals.max()) if len(totals) else 1.0)
-    top, bottom = _M["top"], _H - _M["bottom"]
-
-    def y_of(v: float) -> float:
-        return bottom - (v / ticks[-1]) * (bottom - top)
-
-    body = _y_axis(ticks, y_of, y_title)
-    band = (_W - _M["left"] - _M["right"]) / 12
-    for i, month in enumerate(range(1, 13)):
-        x = _M["left"] + i * band + band * 0.15
-        acc = 0.0
-        for s in series:
-            v = float(table.at[month, s]) if month in table.index else 0.0
-            if v > 0:
-                body.append(f'<rect x="{x:.1f}" y="{y_of(acc + v):.1f}" width="{band * 0.7:.1f}" '
-                            f'height="{y_of(acc) - y_of(acc + v):.1f}" fill="{colours[s]}">'
-                            f"<title>{_e(fig.MONTH_NAMES[month - 1])}: {_e(s)} {v:,.0f} kWh</title></rect>")
-            acc += v
-        body.append(f'<text x="{x + band * 0.35:.1f}" y="{bottom + 14}" text-anchor="middle">'
-                    f"{fig.MONTH_NAMES[month - 1]}</text>")
-    return _frame_svg(body, title, subtitle, [(s, colours[s], False) for s in series])
-
-
-def svg_lines(frame: pd.DataFrame, colours: dict[str, str], *, title: str, subtitle: str, y_title: str,
-              y2_title: str = "Battery SOC (%)", dashed: Sequence[str] = ("Daytime base load", "Battery SOC")) -> str:
-    """Lines over the hours of a day from a ``typical_day`` frame; the "%" series on a right-hand axis."""
-    power = frame[frame["unit"] == "W"]
-    pct = frame[frame["unit"] == "%"]
-    top, bottom = _M["top"], _H - _M["bottom"]
-    ticks = nice_ticks(0.0, float(power["value"].max()) if len(power) else 1.0)
-
-    def x_of(h: float) -> float:
-        return _M["left"] + h / 24.0 * (_W - _M["left"] - _M["right"])
-
-    def y_of(v: float) -> float:
-        return bottom - v / ticks[-1] * (bottom - top)
-
-    def y2_of(v: float) -> float:
-        return bottom - v / 100.0 * (bottom - top)
-
-    body = _y_axis(ticks, y_of, y_title)
-    if len(pct):
-        body += _y_axis([0, 25, 50, 75, 100], y2_of, y2_title, right=True)
-    for h in range(0, 25, 3):
-        body.append(f'<text x="{x_of(h):.1f}" y="{bottom + 14}" text-anchor="middle">{h:02d}:00</text>')
-    body.append(f'<text x="{(_M["left"] + _W - _M["right"]) / 2}" y="{bottom + 30}" text-anchor="middle">'
-                "Time of day (h, local standard time)</text>")
-    legend = []
-    for name in [s for s in colours if s in set(frame["series"])]:
-        part = frame[frame["series"] == name].sort_values("hour")
-        scale = y2_of if (part["unit"] == "%").all() else y_of
-        points = " ".join(f"{x_of(h):.1f},{scale(v):.1f}" for h, v in zip(part["hour"], part["value"], strict=True))
-        dash = ' stroke-dasharray="6 4"' if name in dashed else ""
-        body.append(f'<polyline points="{points}" fill="none" stroke="{colours[name]}" stroke-width="2"{dash}>'
-                    f"<title>{_e(name)}</title></polyline>")
-        legend.append((name, colours[name], name in dashed))
-    return _frame_svg(body, title, subtitle, legend)
-
-
-def _diverging(v: float, limit: float) -> str:
-    """Blue (under) through near-white to orange (over), as the explorer's map."""
-    lo, mid, hi = np.array([0, 114, 178]), np.array([247, 247, 247]), np.array([230, 159, 0])
-    t = max(-1.0, min(1.0, v / limit)) if limit > 0 else 0.0
-    rgb = mid + (hi - mid) * t if t >= 0 else mid + (lo - mid) * -t
-    return "#" + "".join(f"{int(round(c)):02x}" for c in rgb)
-
-
-def svg_heatmap(frame: pd.DataFrame, *, title: str, subtitle: str) -> str:
-    """Month × hour map of ``surplus_w`` from a ``surplus_by_month_hour`` frame."""
-    height = _H + 40
-    top, bottom = _M["top"], height - _M["bottom"]
-    lit = frame[frame["ac_w"] > 1.0]
-    limit = float(max(lit["surplus_w"].abs().max(), 1.0)) if len(lit) else 1.0
-    cw = (_W - _M["left"] - _M["right"]) / 24
-    ch = (bottom - top) / 12
-    body = []
-    body.append(f'<rect x="{_M["left"]}" y="{top}" width="{24 * cw:.1f}" height="{12 * ch:.1f}" fill="#eeeeee"/>')
-    for row in frame.itertuples(index=False):
-        if row.ac_w <= 1.0:  # no AC-coupled output: left blank, as in the explorer
-            continue
-        x = _M["left"] + row.hour * cw
-        y = top + (row.month - 1) * ch
-        body.append(f'<rect x="{x:.1f}" y="{y:.1f}" width="{cw + 0.3:.1f}" height="{ch + 0.3:.1f}" '
-                    f'fill="{_diverging(row.surplus_w, limit)}"><title>{row.month_name} {row.hour:02d}:00: '
-                    f"output {row.ac_w:,.0f} W, base load {row.reference_w:,.0f} W</title></rect>")
-    for m in range(12):
-        body.append(f'<text x="{_M["left"] - 6}" y="{top + (m + 0.65) * ch:.1f}" text-anchor="end">'
-                    f"{fig.MONTH_NAMES[m]}</text>")
-    for h in range(0, 24, 3):
-        body.append(f'<text x="{_M["left"] + (h + 0.5) * cw:.1f}" y="{bottom + 14}" text-anchor="middle">{h:02d}</text>')
-    body.append(f'<text x="{(_M["left"] + _W - _M["right"]) / 2}" y="{bottom + 30}" text-anchor="middle">'
-                "Hour of day (h, local standard time)</text>")
-    legend = [(f"{-limit:,.0f} W: under the base load", _diverging(-limit, limit), False),
-              ("0 W", _diverging(0.0, limit), False),
-              (f"+{limit:,.0f} W: above it", _diverging(limit, limit), False),
-              ("no AC-coupled output", "#eeeeee", False)]
-    return _frame_svg(body, title, subtitle, legend, height=height)
+def chart_svg(chart, *, title: str) -> str:
+    """One chart of :mod:`core.present.charts` as inline SVG: rendered offline by vl-convert (Vega's own renderer,
+    no browser, nothing fetched), scaled to the page's width, with a title for screen readers."""
+    svg = vl_convert.vegalite_to_svg(chart.properties(width=CHART_WIDTH).to_dict(validate=False))
+    head, _, rest = svg.partition(">")
+    # a fixed pixel size would overflow a narrow window or a printed page: keep the viewBox, let CSS size it
+    head = re.sub(r'\s(width|height)="[^"]*"', "", head)
+    if "xlink:" not in rest:  # an unused namespace name: fewer URLs in an offline file
+        head = head.replace(' xmlns:xlink="http://www.w3.org/1999/xlink"', "")
+    return f'{head} width="100%" role="img" aria-label="{_e(title)}"><title>{_e(title)}</title>{rest}'
 
 
 # ------------------------------------------------------------------------------------------------- tables
@@ -276,24 +126,22 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
         parts.append(_table(list(options.columns), options.astype(str).to_numpy().tolist()))
 
     dest = fig.pv_destinations_by_month(sim.results.months)
-    parts += ["<h2>Where the PV energy goes</h2>", "<figure>" + svg_stacked_bars(
-        dest, fig.DESTINATION_COLOURS, title="Where the PV energy goes, month by month",
-        subtitle="energy per month (kWh)", y_title="Energy (kWh)") + "</figure>"]
+    parts += ["<h2>Where the PV energy goes</h2>", "<figure>" + chart_svg(
+        charts.pv_destinations_chart(dest), title="Where the PV energy goes, month by month") + "</figure>"]
     table = dest.pivot_table(index="destination", columns="month", values="kwh", sort=False)
     parts.append(_table(["kWh", *fig.MONTH_NAMES, "Year"],
                         [[d, *[f"{v:,.0f}" for v in r], f"{sum(r):,.0f}"] for d, r in zip(table.index, table.to_numpy(),
                                                                                          strict=True)]))
 
     day = fig.typical_day(steps, month, usable_wh=usable_wh, base_load_w=base_m)
-    parts += ["<h2>A typical day</h2>", "<figure>" + svg_lines(
-        day, fig.SERIES_COLOURS, title=f"A typical day in {fig.MONTH_FULL_NAMES[month - 1]}",
-        subtitle="mean over the month's days: powers (W), battery SOC (%)", y_title="Power (W)") + "</figure>"]
+    month_name = fig.MONTH_FULL_NAMES[month - 1]
+    parts += ["<h2>A typical day</h2>", "<figure>" + chart_svg(
+        charts.typical_day_chart(day, month_name), title=f"A typical day in {month_name}") + "</figure>"]
 
     if float((steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).max()) > 0:
         surplus = fig.surplus_by_month_hour(steps, base_load_w)
-        parts += ["<h2>AC-coupled output against the daytime base load</h2>", "<figure>" + svg_heatmap(
-            surplus, title="Does the AC-coupled output stay under the daytime base load?",
-            subtitle="mean AC-coupled output minus the month's daytime base load (W); grey: no output")
+        parts += ["<h2>AC-coupled output against the daytime base load</h2>", "<figure>" + chart_svg(
+            charts.surplus_map_chart(surplus), title="Does the AC-coupled output stay under the daytime base load?")
             + "</figure>"]
 
     if checks is not None:

@@ -1,7 +1,9 @@
 """Altair chart builders: pure functions from a small tidy table (see :mod:`core.present.figures`) to a chart.
 
-Every chart has a title that says what it answers, units on its axes and a legend in words. Colours come from
-:mod:`core.present.figures` (Okabe–Ito, colour-blind safe), shared with the HTML report.
+The page draws them (``explorer.charts``) and the HTML report renders the same charts to SVG
+(:mod:`core.present.report_html`), so a figure has one definition. Every chart has a title that says what it
+answers, units on its axes and a legend in words. Colours come from :mod:`core.present.figures` (Okabe–Ito,
+colour-blind safe).
 """
 
 from __future__ import annotations
@@ -205,11 +207,3 @@ def outage_chart(events: pd.DataFrame) -> alt.LayerChart:
                  alt.Tooltip("unserved_kwh:Q", title="Unserved (kWh)", format=".1f"),
                  alt.Tooltip("lowest_soc_pct:Q", title="Lowest SOC (%)", format=".1f")],
     ).properties(width=WIDTH, height=HEIGHT)
-
-
-def draw(chart) -> None:
-    """Put a chart on the page. The specification is built without Altair's schema validation, which costs more
-    than the rest of a chart's work on every rerun; tests/test_charts.py validates every builder instead."""
-    import streamlit as st
-
-    st.vega_lite_chart(chart.to_dict(validate=False), width="stretch")
