@@ -24,13 +24,24 @@ class _Parser(argparse.ArgumentParser):
 
 
 def stderr_progress(label: str) -> Callable[[float, str], None]:
-    """A progress line on stderr for long work; silent when stderr is not a terminal and work is short."""
+    """A progress bar on stderr (tqdm) for long work; callers pass it only when stderr is a terminal."""
+    import shutil
+
+    from tqdm import tqdm
+
+    # a pseudo-terminal that reports no size would get an empty bar, or none at all (tqdm hides bars below the
+    # last row)
+    size = shutil.get_terminal_size((80, 24))
+    bar = tqdm(total=100, desc=f"{label}: {'starting':<28}", file=sys.stderr, leave=True,
+               ncols=size.columns, nrows=size.lines,
+               bar_format="{desc} {percentage:3.0f}%|{bar}|")
+
     def report(fraction: float, what: str) -> None:
-        bar = "#" * int(fraction * 30)
-        sys.stderr.write(f"\r{label}: [{bar:<30}] {fraction * 100:3.0f}% {what:<24}")
+        bar.n = round(min(max(fraction, 0.0), 1.0) * 100)
+        bar.set_description_str(f"{label}: {what[:28]:<28}", refresh=False)
+        bar.refresh()
         if fraction >= 1.0:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
+            bar.close()
     return report
 
 
@@ -85,8 +96,35 @@ def _cmd_simulate(args) -> int:
     if args.json:
         print(json.dumps({"name": sc.name, **out}, indent=2))
     else:
-        print(f"{sc.name}\n")
+        step = sim.site.step_s
+        print(f"{sc.name}: one year at {step // 60}-minute steps\n" if step % 60 == 0 else f"{sc.name}\n")
         print(format_year_table(out))
+    return EXIT_OK
+
+
+def _cmd_report(args) -> int:
+    from core.files import write_atomic
+    from core.present.report import check_output_path, write_steps_csv
+    from core.present.scenario_report import scenario_report
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    html_out = None if args.out.lower().endswith(".csv") else args.out
+    csv_out = args.out if html_out is None else args.csv
+    if html_out is not None and not html_out.lower().endswith((".html", ".htm")):
+        raise InputError(f"--out {args.out!r} is neither .html nor .csv", where="command line",
+                         hint="name the report FILE.html, or FILE.csv for the step-by-step results")
+    for path in filter(None, (html_out, csv_out)):  # refuse a bad output name before the year is simulated
+        check_output_path(path, sc, inputs=[Path(args.scenario)])
+    layout = _layout_from_args(sc, args) if sc.expansion is not None else None
+    progress = stderr_progress("report") if sys.stderr.isatty() else None
+    rep = scenario_report(sc, option=args.option, layout=layout, progress=progress)
+    if html_out is not None:
+        write_atomic(Path(html_out), rep.html.encode("utf-8"))
+        print(f"{sc.name}: report of '{rep.option}' against the existing system written to {html_out}")
+    if csv_out is not None:
+        write_steps_csv(rep.simulation, csv_out, inputs=[Path(args.scenario)])
+        print(f"{sc.name}: step-by-step results of '{rep.option}' written to {csv_out}")
     return EXIT_OK
 
 
@@ -271,7 +309,13 @@ def _cmd_spacing(args) -> int:
 
 
 _EPILOG = {
-    "simulate": "example:\n  python -m core simulate sample_sites/maple_hollow/scenario.toml --json",
+    "simulate": "The step: [simulation] step_s when the scenario sets it; else the weather's own step (hourly for a\n"
+                "TMY file), or the finer of weather and load when both are finer than an hour. Loads are averaged\n"
+                "and weather interpolated to it; it is never finer than one minute. The output names it.\n\n"
+                "example:\n  python -m core simulate sample_sites/maple_hollow/scenario.toml --json",
+    "report": "examples:\n  python -m core report sample_sites/maple_hollow/scenario.toml --out maple.html\n"
+              "  python -m core report sample_sites/maple_hollow/scenario.toml --option dc --out maple.html "
+              "--csv maple_steps.csv",
     "inspect-load": "example:\n  python -m core inspect-load meter.csv --timezone Europe/Berlin --json",
     "compare": "example:\n  python -m core compare sample_sites/maple_hollow/scenario.toml --count 4 --tilt 20 "
                "--azimuth 255 --json",
@@ -298,6 +342,18 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("scenario", help="scenario file (TOML)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--steps-csv", metavar="PATH", help="write the step-by-step results as CSV")
+
+    p = add("report", "write the standalone HTML report (and the step-by-step CSV) of one option against the "
+            "existing system", _cmd_report)
+    p.add_argument("scenario", help="scenario file (TOML)")
+    p.add_argument("--out", required=True, metavar="FILE", help="the report, FILE.html (or FILE.csv for the "
+                   "step-by-step results only)")
+    p.add_argument("--csv", metavar="FILE", help="also write the step-by-step results as CSV")
+    p.add_argument("--option", choices=["baseline", "ac_backed_up", "ac_grid", "dc"],
+                   help="the option to report (default: the scenario's [expansion] coupling, else the first one)")
+    p.add_argument("--count", type=int, help="panels added (default: the scenario's)")
+    p.add_argument("--tilt", type=float, help="tilt of the new panels, degrees")
+    p.add_argument("--azimuth", type=float, help="azimuth of the new panels, degrees (180 = south)")
 
     p = add("inspect-load", "explain what the importer makes of a measured load file", _cmd_inspect_load)
     p.add_argument("file", help="load CSV")

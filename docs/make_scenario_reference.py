@@ -217,8 +217,9 @@ MEANINGS: dict[str, str] = {
     "[tariff] discount_pct": "Discount rate for the net present value.",
     "[tariff] years": "Horizon of the economics.",
     "[tariff] degradation_pct_per_year": "Yearly loss of PV output.",
-    "[simulation] step_s": "Simulation step; the weather's own step when left out. The load is averaged or the "
-                           "weather interpolated to it. Never finer than a minute.",
+    "[simulation] step_s": "Simulation step; when left out, the weather's own step, or the finer of weather and load when both "
+                           "are finer than an hour. Loads are averaged and weather interpolated to it; "
+                           "never finer than a minute.",
     "[simulation] design_low_temp_c": "Coldest design temperature for string voltage checks; the weather's coldest "
                                       "hour less a margin when left out.",
     "[simulation] design_high_temp_c": "Hottest design air temperature for the MPPT window checks; the weather's "
