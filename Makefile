@@ -31,6 +31,7 @@ bench: $(STAMP)
 
 lint: $(STAMP)
 	$(BIN)/python -m ruff check core explorer tests
+	$(BIN)/python -m mypy
 
 clean:
-	rm -rf $(VENV) .pytest_cache
+	rm -rf $(VENV) .pytest_cache .mypy_cache

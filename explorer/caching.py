@@ -16,7 +16,7 @@ import json
 import streamlit as st
 
 from core.scenario import Scenario, scenario_to_dict
-from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, run, source_power
+from core.simulate import OrientationCache, SiteData, prepare_site
 
 
 def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> str:
@@ -58,12 +58,6 @@ def _orientations(key: str) -> OrientationCache:
     return OrientationCache()
 
 
-@st.cache_resource(max_entries=96, show_spinner=False)
-def _simulation(key: str, _sc: Scenario) -> SimulationResult:
-    site = site_data(_sc)
-    return run(_sc, site, source_power(_sc, site, orientation_cache(_sc)))
-
-
 def site_data(sc: Scenario) -> SiteData:
     return _site(site_key(sc), sc)
 
@@ -71,12 +65,6 @@ def site_data(sc: Scenario) -> SiteData:
 def orientation_cache(sc: Scenario) -> OrientationCache:
     """One per site: the time base can depend on the load's resolution, so the site's whole key is used."""
     return _orientations(site_key(sc))
-
-
-def simulation(sc: Scenario) -> SimulationResult:
-    """The simulated year of a scenario (with any expansion already added as an array)."""
-    return _simulation(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
-                                                "microinverters", "arrays", "grid")), sc)
 
 
 @st.cache_data(max_entries=24, show_spinner=False)

@@ -13,7 +13,7 @@ import pandas as pd
 import pytest
 
 from core.errors import InputError
-from core.model.loads import build_year, load_year
+from core.model.loads import build_year, read_load_csv
 from core.timebase import NOMINAL_YEAR, nominal_index
 
 SITE_TZ = dt.timezone(dt.timedelta(hours=1))  # a site on UTC+01:00 standard time
@@ -131,22 +131,25 @@ def test_bad_bills_are_refused():
         build_year(measured, step_s=3600, tz=SITE_TZ, monthly_kwh=[100.0] * 4 + [-1.0] + [100.0] * 7)
 
 
-def test_load_year_names_the_file_when_too_short(tmp_path):
+def test_too_short_a_file_is_refused_with_the_days_needed(tmp_path):
     path = tmp_path / "short.csv"
     index = pd.date_range("2023-05-01", periods=10 * 24, freq="1h", tz="UTC")
     path.write_text("time,power_w\n" + "".join(f"{t:%Y-%m-%dT%H:%M}Z,400\n" for t in index))
+    measured = read_load_csv(path)
     with pytest.raises(InputError) as err:
-        load_year(path, step_s=3600, tz=SITE_TZ, timezone_name=None)
-    assert "short.csv" in str(err.value) and "21 days" in str(err.value)
+        build_year(measured.power_w, step_s=3600, tz=SITE_TZ)
+    assert "21 days" in str(err.value)
 
 
-def test_load_year_end_to_end(tmp_path):
+def test_read_and_build_a_year_end_to_end(tmp_path):
     truth = record("2023-01-01", "2024-01-01", step="1h")
     path = tmp_path / "year.csv"
     local = truth.tz_convert("Europe/Berlin")
     path.write_text("Zeit;Leistung [kW]\n" + "".join(
         f"{t:%d.%m.%Y %H:%M};" + f"{w / 1000:.5f}\n".replace(".", ",") for t, w in local.items()))
-    year, quality, report = load_year(path, step_s=3600, tz=SITE_TZ, timezone_name="Europe/Berlin")
+    measured = read_load_csv(path, timezone="Europe/Berlin")
+    year, report = build_year(measured.power_w, step_s=3600, tz=SITE_TZ)
+    quality = measured.quality
     assert quality.unit == "kW" and quality.rows_rejected == 0
     assert report.filled_days == 0
     np.testing.assert_allclose(year.to_numpy(), truth.to_numpy(), atol=0.01)

@@ -54,14 +54,14 @@ class Economics:
         return out
 
 
-def npv(rate: float, cash_flows: Sequence[float]) -> float:
+def npv(rate: float, cash_flows: Sequence[float] | np.ndarray) -> float:
     """Net present value of cash flows at the end of years 0, 1, 2, …: Σ CF_t / (1 + rate)^t."""
     cf = np.asarray(cash_flows, dtype=float)
     t = np.arange(len(cf))
     return float(np.sum(cf / (1.0 + rate) ** t))
 
 
-def irr(cash_flows: Sequence[float]) -> float | None:
+def irr(cash_flows: Sequence[float] | np.ndarray) -> float | None:
     """Internal rate of return: the rate > −1 at which :func:`npv` is zero.
 
     Solved as the real roots of the polynomial Σ CF_t x^t with x = 1 / (1 + rate), as numpy-financial

@@ -92,11 +92,6 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     return d
 
 
-def derived_columns(steps: pd.DataFrame, *, initial_wh: float, dt_h: float) -> pd.DataFrame:
-    """Per-step series of every energy figure (W), from the engine's flows and the PV potentials."""
-    return pd.DataFrame(_derived(_arrays(steps), initial_wh=initial_wh, dt_h=dt_h), index=steps.index)
-
-
 class MonthGroups:
     """The steps grouped by calendar month, for sums per month without pandas (a groupby on plain arrays).
 
@@ -107,6 +102,7 @@ class MonthGroups:
     def __init__(self, month) -> None:
         m = np.asarray(month, dtype=np.intp)
         self._month = m
+        self._starts: np.ndarray | None
         if len(m) and np.all(m[1:] >= m[:-1]):
             self._starts = np.concatenate([[0], np.flatnonzero(np.diff(m)) + 1])
             self.present = m[self._starts]
@@ -145,7 +141,7 @@ def _ratio(num: float, den: float) -> float | None:
 
 def summarise(steps: pd.DataFrame, *, dt_h: float, initial_wh: float, usable_wh: float,
               daylight: np.ndarray, weather: dict | None = None) -> Results:
-    """Year and month figures from the per-step table (see :func:`derived_columns`)."""
+    """Year and month figures from the per-step table (the engine's flows and the PV potentials, W)."""
     return summarise_columns(_arrays(steps), months=MonthGroups(steps.index.month), dt_h=dt_h,
                              initial_wh=initial_wh, usable_wh=usable_wh, daylight=daylight, weather=weather)
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 import os
+from collections.abc import Sequence
 from pathlib import Path
 
 from core.errors import InputError
@@ -19,7 +20,7 @@ def steps_csv_text(sim) -> str:
     return buffer.getvalue()
 
 
-def check_output_path(path, sc, *, inputs: list[Path] = ()) -> Path:
+def check_output_path(path, sc, *, inputs: Sequence[Path] = ()) -> Path:
     """Raise InputError unless ``path`` may take an output of a run of ``sc``: not one of its input files (however
     the path reaches it: '..', a symbolic link), not a folder, inside a folder that exists. Called before the
     work starts, so that a long run is not wasted on a name that will be refused."""
@@ -46,7 +47,7 @@ def check_output_path(path, sc, *, inputs: list[Path] = ()) -> Path:
     return path
 
 
-def write_steps_csv(sim, path, *, inputs: list[Path] = ()) -> Path:
+def write_steps_csv(sim, path, *, inputs: Sequence[Path] = ()) -> Path:
     """Write the step table atomically; refuse to write over one of the run's input files."""
     path = check_output_path(path, sim.scenario, inputs=inputs)
     try:

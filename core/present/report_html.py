@@ -139,7 +139,7 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
         charts.typical_day_chart(day, month_name), title=f"A typical day in {month_name}") + "</figure>"]
 
     if float((steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).max()) > 0:
-        surplus = fig.surplus_by_month_hour(steps, base_load_w)
+        surplus = fig.surplus_by_month_hour(steps, None if base_load_w is None else list(base_load_w))
         parts += ["<h2>AC-coupled output against the daytime base load</h2>", "<figure>" + chart_svg(
             charts.surplus_map_chart(surplus), title="Does the AC-coupled output stay under the daytime base load?")
             + "</figure>"]
