@@ -33,11 +33,34 @@ def _limit(p_module_w: np.ndarray, efficiency: float, output_limit_w: np.ndarray
 def controller_output(p_module_w: np.ndarray, *, efficiency: float, max_charge_current_a: float,
                       battery_nominal_v: float, max_input_current_a: float | None = None,
                       vmp_string_v: np.ndarray | None = None, strings: int = 1) -> Converted:
-    """An MPPT charge controller: output limited to ``max_charge_current_a × battery_nominal_v``.
+    """An MPPT charge controller: efficiency, and output limited to its rated charge current.
 
-    When the string's maximum-power voltage is given, the input is also limited to
-    ``max_input_current_a × Vmp`` (a controller draws no more than its rated input current; the
-    operating point moves off the maximum-power point and the rest is clipped) — common practice.
+    Parameters
+    ----------
+    p_module_w : array-like
+        DC power of the array at its maximum-power point, W (step means).
+    efficiency : float
+        Conversion efficiency, 0…1.
+    max_charge_current_a : float
+        Rated output (charge) current, A; × ``battery_nominal_v`` gives the output limit, W.
+    battery_nominal_v : float
+        Nominal battery voltage, V.
+    max_input_current_a : float, optional
+        Rated PV input current, A. With ``vmp_string_v`` it limits the input to ``max_input_current_a × Vmp``.
+    vmp_string_v : array-like, optional
+        The string's maximum-power voltage per step, V.
+    strings : int, default 1
+        Strings in parallel (kept for the callers; the input limit is per controller).
+
+    Returns
+    -------
+    Converted
+        Output, conversion loss and clipped power, W. Clipped power is counted on the module side.
+
+    Notes
+    -----
+    A controller draws no more than its rated input current: the operating point moves off the maximum-power
+    point and the rest is clipped. Both limits are common practice (controller datasheets).
     """
     output_limit = max_charge_current_a * battery_nominal_v
     input_limit: np.ndarray | float = np.inf
@@ -50,8 +73,29 @@ def microinverter_output(p_module_w: np.ndarray, *, modules: int, efficiency: fl
                          max_dc_input_w: float, inputs: int = 1) -> Converted:
     """``modules`` identical modules on microinverters with ``inputs`` modules each.
 
-    ``p_module_w`` is ONE module's DC power. Each unit accepts at most ``max_dc_input_w`` in total and
-    delivers at most ``ac_rating_w``; a last, partly filled unit has the same limits for fewer modules.
+    Parameters
+    ----------
+    p_module_w : array-like
+        DC power of ONE module at its maximum-power point, W (step means).
+    modules : int
+        Modules in all.
+    efficiency : float
+        Conversion efficiency DC to AC, 0…1.
+    ac_rating_w : float
+        Continuous AC output of one unit, W.
+    max_dc_input_w : float
+        Largest DC input of one unit, all its inputs together, W.
+    inputs : int, default 1
+        Modules per unit; a last, partly filled unit has the same limits for fewer modules.
+
+    Returns
+    -------
+    Converted
+        Output (AC), conversion loss and clipped power of the whole group, W.
+
+    Notes
+    -----
+    Clipping at the AC rating and the DC input limit follows the datasheet limits (common practice).
     """
     p = np.maximum(np.asarray(p_module_w, dtype=float), 0.0)
     full, rest = divmod(int(modules), int(inputs))
@@ -82,23 +126,41 @@ class InverterCurve:
 
     @property
     def rating_w(self) -> float:
+        """Continuous AC rating, W."""
         return float(self.ac_w[-1])
 
     def dc_for_ac(self, p_ac_w):
+        """DC input (W) that gives the AC output ``p_ac_w`` (W)."""
         return np.interp(p_ac_w, self.ac_w, self.dc_w)
 
     def ac_for_dc(self, p_dc_w):
+        """AC output (W) from the DC input ``p_dc_w`` (W)."""
         return np.interp(p_dc_w, self.dc_w, self.ac_w)
 
 
 def inverter_curve(rating_w: float, efficiency: float | tuple[tuple[float, float], ...],
                    points: int = 201) -> InverterCurve:
-    """Tabulate DC input against AC output from 0 to the rating.
+    """Tabulate DC input against AC output of the inverter-charger, from 0 to its rating.
 
-    ``efficiency`` is a constant or a part-load curve ``[(load_fraction, efficiency), …]`` (AC output
-    over rating), interpolated linearly and held flat beyond its ends — the usual datasheet form,
-    e.g. the CEC weighted points; cf. Dobos, PVWatts Version 5 Manual, NREL/TP-6A20-62641 (2014), for
-    the shape of such a curve.
+    Parameters
+    ----------
+    rating_w : float
+        Continuous AC output rating, W.
+    efficiency : float or sequence of (float, float)
+        A constant, or a part-load curve ``[(load_fraction, efficiency), …]`` (AC output over rating),
+        interpolated linearly and held flat beyond its ends — the usual datasheet form.
+    points : int, default 201
+        Rows of the table.
+
+    Returns
+    -------
+    InverterCurve
+        AC output and DC input, W, both rising strictly, so that either can be interpolated from the other.
+
+    References
+    ----------
+    Dobos, A. P., "PVWatts Version 5 Manual", NREL/TP-6A20-62641 (2014), for the shape of a part-load curve;
+    ``tests/test_conversion.py`` holds the tabulated curve to :func:`pvlib.inverter.pvwatts`.
     """
     ac = np.linspace(0.0, float(rating_w), points)
     if isinstance(efficiency, int | float):
@@ -114,7 +176,20 @@ def inverter_curve(rating_w: float, efficiency: float | tuple[tuple[float, float
 
 
 def efficiency_at(curve: InverterCurve, p_ac_w):
-    """Efficiency (AC out / DC in) at the given AC output."""
+    """Efficiency of the inverter-charger at the given AC output.
+
+    Parameters
+    ----------
+    curve : InverterCurve
+        The tabulated curve (:func:`inverter_curve`).
+    p_ac_w : array-like
+        AC output, W.
+
+    Returns
+    -------
+    numpy.ndarray
+        AC out / DC in, 0…1 (0 at zero output).
+    """
     p_ac_w = np.asarray(p_ac_w, dtype=float)
     dc = curve.dc_for_ac(p_ac_w)
     return np.divide(p_ac_w, dc, out=np.zeros_like(p_ac_w), where=dc > 0)

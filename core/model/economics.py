@@ -55,7 +55,24 @@ class Economics:
 
 
 def npv(rate: float, cash_flows: Sequence[float] | np.ndarray) -> float:
-    """Net present value of cash flows at the end of years 0, 1, 2, …: Σ CF_t / (1 + rate)^t."""
+    """Net present value of yearly cash flows: Σ CF_t / (1 + rate)^t.
+
+    Parameters
+    ----------
+    rate : float
+        Discount rate per year, as a fraction (0.04 for 4 %).
+    cash_flows : array-like
+        Cash flows at the end of years 0, 1, 2, … (year 0 undiscounted), in any currency.
+
+    Returns
+    -------
+    float
+        The net present value, in the currency of the cash flows.
+
+    References
+    ----------
+    Follows ``numpy_financial.npv``, the reference implementation in ``tests/test_economics.py``.
+    """
     cf = np.asarray(cash_flows, dtype=float)
     t = np.arange(len(cf))
     return float(np.sum(cf / (1.0 + rate) ** t))
@@ -64,9 +81,24 @@ def npv(rate: float, cash_flows: Sequence[float] | np.ndarray) -> float:
 def irr(cash_flows: Sequence[float] | np.ndarray) -> float | None:
     """Internal rate of return: the rate > −1 at which :func:`npv` is zero.
 
-    Solved as the real roots of the polynomial Σ CF_t x^t with x = 1 / (1 + rate), as numpy-financial
-    does; of several valid roots the one closest to zero is returned. ``None`` when no real rate exists
-    (for example when the saving never covers the investment in any sense: all flows of one sign).
+    Parameters
+    ----------
+    cash_flows : array-like
+        Cash flows at the end of years 0, 1, 2, …, in any currency.
+
+    Returns
+    -------
+    float or None
+        The rate per year as a fraction; of several valid rates the one closest to zero. ``None`` when no
+        real rate exists (for example when all flows have one sign).
+
+    Notes
+    -----
+    Solved as the real roots of the polynomial Σ CF_t x^t with x = 1 / (1 + rate), as numpy-financial does.
+
+    References
+    ----------
+    ``numpy_financial.irr``, the reference implementation in ``tests/test_economics.py``.
     """
     cf = np.asarray(cash_flows, dtype=float)
     if cf.size < 2 or not (np.any(cf > 0) and np.any(cf < 0)):
@@ -81,9 +113,24 @@ def irr(cash_flows: Sequence[float] | np.ndarray) -> float | None:
 
 
 def payback_months(investment: float, yearly_savings: Sequence[float]) -> float | None:
-    """Months until the cumulative saving reaches the investment, each year's saving spread over 12 months.
+    """Months until the cumulative saving reaches the investment.
 
-    ``None`` when it is not reached within the years given (or the saving is not positive).
+    Parameters
+    ----------
+    investment : float
+        The investment, in the currency of the savings.
+    yearly_savings : array-like
+        The saving of years 1, 2, …, each spread evenly over its twelve months.
+
+    Returns
+    -------
+    float or None
+        Months (0 for no investment); ``None`` when the investment is not recovered within the years given.
+
+    Notes
+    -----
+    Simple payback on undiscounted savings, discounted payback on discounted ones (common practice in project
+    appraisal).
     """
     if investment <= 0:
         return 0.0
@@ -96,7 +143,22 @@ def payback_months(investment: float, yearly_savings: Sequence[float]) -> float 
 
 
 def yearly_factors(years: int, *, degradation_pct_per_year: float, escalation_pct: float) -> np.ndarray:
-    """Energy and price factors of years 1…N: ``((1 − d)(1 + e))^(t−1)`` (returned as energy, money pairs)."""
+    """Energy and price factors of years 1…N.
+
+    Parameters
+    ----------
+    years : int
+        Years of the analysis.
+    degradation_pct_per_year : float
+        Yearly loss of PV output, %.
+    escalation_pct : float
+        Yearly rise of energy prices, %.
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape (2, years): row 0 the energy factor ``(1 − d)^(t−1)``, row 1 the price factor ``(1 + e)^(t−1)``.
+    """
     t = np.arange(years, dtype=float)
     energy = (1.0 - degradation_pct_per_year / 100.0) ** t
     price = (1.0 + escalation_pct / 100.0) ** t
@@ -107,11 +169,37 @@ def appraise(*, investment: float, import_avoided_kwh: float, export_added_kwh: 
              import_price_per_kwh: float, export_price_per_kwh: float, escalation_pct: float,
              discount_pct: float, years: int, degradation_pct_per_year: float,
              currency: str = "") -> Economics:
-    """Annual saving, paybacks, NPV, IRR and levelised cost for one option (see the module docstring).
+    """Annual saving, paybacks, NPV, IRR and levelised cost of one option against the existing system.
 
-    ``import_avoided_kwh`` and ``export_added_kwh`` are the first year's differences from the existing
-    system; ``export_added_kwh`` counts paid (allowed) export only. A negative ``import_avoided_kwh`` (the
-    option imports more) is kept: it is a cost.
+    Parameters
+    ----------
+    investment : float
+        Cost of the option, in ``currency``.
+    import_avoided_kwh : float
+        First-year grid import avoided, kWh; negative when the option imports more (a cost).
+    export_added_kwh : float
+        First-year paid (allowed) export added, kWh.
+    import_price_per_kwh, export_price_per_kwh : float
+        First-year prices, currency per kWh.
+    escalation_pct : float
+        Yearly rise of the prices, %.
+    discount_pct : float
+        Discount rate, % per year.
+    years : int
+        Years of the analysis.
+    degradation_pct_per_year : float
+        Yearly loss of PV output, %.
+    currency : str, optional
+        The currency's code or symbol, carried into the result.
+
+    Returns
+    -------
+    Economics
+        The figures, and the cash flows of years 0…N.
+
+    References
+    ----------
+    The conventions in the module docstring; levelised cost after Short, Packey & Holt, NREL/TP-462-5173 (1995).
     """
     energy_f, price_f = yearly_factors(years, degradation_pct_per_year=degradation_pct_per_year,
                                        escalation_pct=escalation_pct)

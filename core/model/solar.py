@@ -43,11 +43,39 @@ class SolarGeometry:
 
 def sun_position(times, latitude: float, longitude: float, altitude_m: float, pressure_pa, temp_air_c,
                  delta_t_s: float = DEFAULT_DELTA_T_S) -> pd.DataFrame:
-    """Topocentric sun position at ``times`` by SPA (pvlib ``nrel_numpy``).
+    """Topocentric sun position at ``times`` by the NREL Solar Position Algorithm.
 
-    ``pressure_pa`` (Pa) and ``temp_air_c`` (C) set the refraction correction; scalars or arrays aligned with
-    ``times``. Returns pvlib's frame: ``apparent_zenith``, ``zenith``, ``apparent_elevation``, ``elevation``,
-    ``azimuth``, ``equation_of_time`` (degrees, minutes).
+    Parameters
+    ----------
+    times : DatetimeIndex-like
+        Time-zone-aware instants.
+    latitude, longitude : float
+        Degrees, north and east positive.
+    altitude_m : float
+        Height above sea level, m.
+    pressure_pa : float or array-like
+        Station pressure, Pa; sets the refraction correction. Scalar or aligned with ``times``.
+    temp_air_c : float or array-like
+        Air temperature, °C; sets the refraction correction. Scalar or aligned with ``times``.
+    delta_t_s : float, default 67
+        Difference between terrestrial and universal time, s.
+
+    Returns
+    -------
+    pandas.DataFrame
+        pvlib's frame: ``apparent_zenith``, ``zenith``, ``apparent_elevation``, ``elevation``, ``azimuth``
+        (degrees; azimuth clockwise from north) and ``equation_of_time`` (minutes).
+
+    Raises
+    ------
+    ValueError
+        When ``times`` carry no time zone.
+
+    References
+    ----------
+    Reda, I. and Andreas, A., "Solar position algorithm for solar radiation applications", Solar Energy 76
+    (2004) 577-589, NREL/TP-560-34302; implemented by :func:`pvlib.solarposition.get_solarposition`
+    (``method="nrel_numpy"``).
     """
     times = pd.DatetimeIndex(times)
     if times.tz is None:
@@ -60,13 +88,44 @@ def sun_position(times, latitude: float, longitude: float, altitude_m: float, pr
 def solar_geometry(index, latitude: float, longitude: float, altitude_m: float, *, pressure_pa=None,
                    temp_air_c=None, step_s: int | None = None,
                    delta_t_s: float = DEFAULT_DELTA_T_S, position: pd.DataFrame | None = None) -> SolarGeometry:
-    """Sun geometry for every interval of ``index`` (interval starts), evaluated at the interval midpoints.
+    """Sun geometry for every interval of ``index``, evaluated at the interval midpoints.
 
-    ``pressure_pa`` defaults to :func:`pvlib.atmosphere.alt2pres` of the altitude, ``temp_air_c`` to 12 C; both may
-    be arrays aligned with ``index`` (e.g. the weather columns). ``step_s`` is read from the index when not given.
-    ``position``: an SPA frame already computed for the same midpoints (any refraction settings); only the
-    refraction is then applied again for this pressure and temperature (SPA's own formula, Reda & Andreas 2004
-    eq. 42), which gives the same numbers as a full SPA run at a fraction of its cost.
+    Parameters
+    ----------
+    index : DatetimeIndex-like
+        Interval starts, time-zone-aware, at a regular step.
+    latitude, longitude : float
+        Degrees, north and east positive.
+    altitude_m : float
+        Height above sea level, m.
+    pressure_pa : float or array-like, optional
+        Station pressure, Pa; :func:`pvlib.atmosphere.alt2pres` of the altitude when not given. May be aligned
+        with ``index`` (a weather column).
+    temp_air_c : float or array-like, optional
+        Air temperature for refraction, °C; 12 °C when not given.
+    step_s : int, optional
+        The step, s; read from the index when not given.
+    delta_t_s : float, default 67
+        Difference between terrestrial and universal time, s.
+    position : pandas.DataFrame, optional
+        An SPA frame already computed for the same midpoints (any refraction settings). Only the refraction is
+        then applied again for this pressure and temperature, which gives the same numbers as a full SPA run at a
+        fraction of its cost.
+
+    Returns
+    -------
+    SolarGeometry
+        Zenith and azimuth (degrees), extraterrestrial normal irradiance (W/m²) and air masses per interval.
+
+    Raises
+    ------
+    ValueError
+        When the index is not regular, or ``position`` does not match it.
+
+    References
+    ----------
+    Reda & Andreas (2004), eq. 42 for the refraction; Spencer (1971) for the extraterrestrial irradiance
+    (:func:`pvlib.irradiance.get_extra_radiation`); Kasten & Young (1989) for the relative air mass.
     """
     index = pd.DatetimeIndex(index)
     check_site(latitude, longitude, altitude_m)
@@ -92,8 +151,28 @@ def solar_geometry(index, latitude: float, longitude: float, altitude_m: float, 
 
 
 def apparent_zenith_deg(elevation_deg, pressure_pa, temp_air_c, atmos_refract_deg: float = 0.5667) -> np.ndarray:
-    """Refraction-corrected zenith from SPA's topocentric elevation without atmosphere (Reda & Andreas 2004,
-    eqs. 42-44, via :func:`pvlib.spa.atmospheric_refraction_correction`; pressure in Pa, temperature in C)."""
+    """Refraction-corrected zenith from SPA's topocentric elevation without atmosphere.
+
+    Parameters
+    ----------
+    elevation_deg : array-like
+        Topocentric sun elevation without refraction, degrees.
+    pressure_pa : float or array-like
+        Station pressure, Pa.
+    temp_air_c : float or array-like
+        Air temperature, °C.
+    atmos_refract_deg : float, default 0.5667
+        Refraction at sunrise and sunset, degrees.
+
+    Returns
+    -------
+    numpy.ndarray
+        Apparent zenith, degrees.
+
+    References
+    ----------
+    Reda & Andreas (2004), eqs. 42-44, via :func:`pvlib.spa.atmospheric_refraction_correction`.
+    """
     e0 = np.asarray(elevation_deg, dtype=float)
     pressure_mbar = np.broadcast_to(np.asarray(pressure_pa, dtype=float) / 100.0, e0.shape)
     temperature = np.broadcast_to(np.asarray(temp_air_c, dtype=float), e0.shape)

@@ -74,7 +74,19 @@ DESTINATIONS = (
 
 
 def pv_destinations_by_month(months: list[dict]) -> pd.DataFrame:
-    """Month × destination energy (kWh): columns ``month``, ``month_name``, ``destination``, ``order``, ``kwh``."""
+    """Where the PV energy goes, month by month.
+
+    Parameters
+    ----------
+    months : list of dict
+        The year's month records (``Results.months``): ``month`` 1…12 and energies in kWh.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per month and destination: ``month``, ``month_name``, ``destination`` (in words), ``order``
+        (stacking order) and ``kwh`` (never negative).
+    """
     rows = []
     for m in months:
         for order, (key, label) in enumerate(DESTINATIONS):
@@ -89,11 +101,24 @@ def _hour_of_day(index: pd.DatetimeIndex) -> np.ndarray:
 
 def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
                 base_load_w: float | None = None) -> pd.DataFrame:
-    """Mean powers by time of day over one month (W) and the mean battery SOC (%).
+    """Mean powers by time of day over one month, and the mean battery SOC.
 
-    Columns ``hour`` (interval start, hours after local standard midnight), ``series``, ``value`` and ``unit``
-    ("W" or "%"). Series: backed-up loads, all loads, AC-coupled and DC-coupled PV output, the month's daytime
-    base load (a constant, when given) and the battery SOC (when there is a battery).
+    Parameters
+    ----------
+    steps : pandas.DataFrame
+        The year's step table (W, step means; ``soc_wh`` in Wh), indexed by interval start.
+    month : int
+        1…12.
+    usable_wh : float
+        Usable battery energy, Wh; 0 leaves the SOC out.
+    base_load_w : float, optional
+        The month's daytime base load, W, drawn as a constant.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Long form: ``hour`` (interval start, hours after local standard midnight), ``series`` (in words),
+        ``value`` and ``unit`` ("W", or "%" for the SOC).
     """
     part = steps[steps.index.month == month]
     hour = _hour_of_day(part.index)
@@ -118,10 +143,22 @@ def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | 
                           loads_w: pd.Series | None = None) -> pd.DataFrame:
     """AC-coupled output against the base load by month and hour of day.
 
-    ``base_load_w`` holds 12 monthly daytime base loads (W); without it the mean load of that month and hour is
-    the reference. Columns ``month``, ``month_name``, ``hour``, ``ac_w`` (mean AC-coupled output),
-    ``reference_w`` and ``surplus_w`` = ``ac_w`` − ``reference_w``: above zero the output exceeds what the
-    base load takes, and must go into the battery, be curtailed or leave the site.
+    Parameters
+    ----------
+    steps : pandas.DataFrame
+        The year's step table (W, step means).
+    base_load_w : array-like of 12, optional
+        Monthly daytime base loads, W (None or NaN for a month without one). Without them the mean load of that
+        month and hour is the reference.
+    loads_w : pandas.Series, optional
+        The loads to compare with, W per step; all loads when not given.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``month``, ``month_name``, ``hour``, ``ac_w`` (mean AC-coupled output), ``reference_w`` and
+        ``surplus_w`` = ``ac_w`` − ``reference_w``, all W. Above zero the output exceeds what the base load
+        takes, and must go into the battery, be curtailed or leave the site.
     """
     ac = steps["ac_backed_out_w"] + steps["ac_grid_out_w"]
     load = loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"]
@@ -142,8 +179,24 @@ def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | 
 
 def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
                         loads_w: pd.Series | None = None) -> pd.DataFrame:
-    """Duration curve over the daylight steps: AC-coupled output minus the load at that moment (W), sorted
-    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``."""
+    """Duration curve over the daylight steps of AC-coupled output minus the load at that moment.
+
+    Parameters
+    ----------
+    steps : pandas.DataFrame
+        The year's step table (W, step means).
+    daylight : array-like of bool
+        Whether each step is in daylight.
+    dt_h : float
+        The step, h.
+    loads_w : pandas.Series, optional
+        The loads to compare with, W per step; all loads when not given.
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``hours`` (cumulative daylight hours) and ``surplus_w`` (W), from the highest surplus down.
+    """
     ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
     load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"], dtype=float)
     day = np.asarray(daylight, dtype=bool)
@@ -229,7 +282,23 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
 
 
 def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.DataFrame:
-    """One row per grid outage: ``start``, ``hours``, ``unserved_kwh``, ``unserved_hours``, ``lowest_soc_pct``."""
+    """One row per grid outage of the year.
+
+    Parameters
+    ----------
+    steps : pandas.DataFrame
+        The year's step table (``grid_up``, ``unserved_w`` in W, ``soc_wh`` in Wh).
+    dt_h : float
+        The step, h.
+    usable_wh : float
+        Usable battery energy, Wh (0 without a battery).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``start`` (interval start, site standard time), ``hours`` (length, h), ``unserved_kwh``,
+        ``unserved_hours`` (h with unserved backed-up loads) and ``lowest_soc_pct`` (%).
+    """
     up = steps["grid_up"].to_numpy(dtype=bool)
     columns = ["start", "hours", "unserved_kwh", "unserved_hours", "lowest_soc_pct"]
     if up.all():
@@ -283,6 +352,7 @@ def fmt_pct(x: float | None, *, signed: bool = False) -> str:
 
 
 def fmt_hours(x: float | None) -> str:
+    """Hours: whole hours from 10 h up, one decimal below (``3.5 h``)."""
     if x is None or not np.isfinite(x):
         return "—"
     return f"{x:,.0f} h" if x >= 10 else f"{x:.1f} h"

@@ -12,7 +12,19 @@ from core.files import write_atomic
 
 
 def steps_csv_text(sim) -> str:
-    """The per-step flows (W, step means; SOC in Wh) with interval-start times in site standard time."""
+    """The step-by-step table as CSV text.
+
+    Parameters
+    ----------
+    sim : SimulationResult
+        A simulated year.
+
+    Returns
+    -------
+    str
+        One row per step: ``interval_start`` (site standard time), then every flow (W, step means) and the
+        stored energy ``soc_wh`` (Wh).
+    """
     table = sim.steps.copy()
     table.index.name = "interval_start"
     buffer = io.StringIO()
@@ -48,7 +60,27 @@ def check_output_path(path, sc, *, inputs: Sequence[Path] = ()) -> Path:
 
 
 def write_steps_csv(sim, path, *, inputs: Sequence[Path] = ()) -> Path:
-    """Write the step table atomically; refuse to write over one of the run's input files."""
+    """Write the step-by-step table as CSV, atomically.
+
+    Parameters
+    ----------
+    sim : SimulationResult
+        A simulated year.
+    path : path-like
+        The CSV file to write.
+    inputs : sequence of Path, optional
+        Files of the run besides the scenario's data files (the scenario file itself) that must not be replaced.
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    InputError
+        When the path is one of the run's inputs, a folder, in a folder that does not exist, or not writable.
+    """
     path = check_output_path(path, sim.scenario, inputs=inputs)
     try:
         return write_atomic(path, steps_csv_text(sim).encode("utf-8"))

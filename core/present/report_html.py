@@ -92,11 +92,35 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
                 base_load_w: Sequence[float] | None = None, options: pd.DataFrame | None = None,
                 verdict: str | None = None, checks: Sequence | None = None, settings: Sequence[tuple[str, str]] = (),
                 today: dt.date | None = None) -> str:
-    """The report as one HTML document.
+    """The report as one HTML document: no scripts, nothing fetched, charts as inline SVG.
 
-    ``sim`` and ``baseline`` are :class:`core.simulate.SimulationResult` of the option and of the existing system;
-    ``options`` a table of the options side by side (first column the figure, then one column per option);
-    ``checks`` design checks (objects with ``status``, ``id``, ``sentence``, ``source`` and ``caution``).
+    Parameters
+    ----------
+    sim, baseline : SimulationResult
+        The option's year and the existing system's.
+    option_label : str
+        The option in words.
+    headline, more : sequence of Headline
+        The headline figures and the secondary ones (:func:`core.present.figures.headline_figures`).
+    month : int, optional
+        The month of the typical day, 1…12; the month of most PV output when not given.
+    base_load_w : sequence of 12 float, optional
+        Monthly daytime base loads, W.
+    options : pandas.DataFrame, optional
+        The options side by side as text (first column the figure, then one column per option).
+    verdict : str, optional
+        The verdict in words, shown with the options.
+    checks : sequence, optional
+        Design checks (objects with ``status``, ``id``, ``sentence``, ``source`` and ``caution``).
+    settings : sequence of (str, str)
+        The what-if settings in words.
+    today : datetime.date, optional
+        The report's date; today when not given.
+
+    Returns
+    -------
+    str
+        The HTML document.
     """
     sc = sim.scenario
     today = today or dt.date.today()
