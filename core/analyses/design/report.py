@@ -1,0 +1,43 @@
+"""The search in words and a table for the command line (kWh a year without decimals, money without decimals)."""
+
+from __future__ import annotations
+
+import textwrap
+
+from core.analyses.design.search import SearchResult
+
+
+def _cell(value, fmt: str) -> str:
+    return "—" if value is None else format(value, fmt)
+
+
+def format_search(result: SearchResult, top: int = 10) -> str:
+    """The best ``top`` valid designs ranked, how many were invalid and why, and the reasons for the best."""
+    cur = result.scenario.tariff.currency
+    valid = result.valid
+    invalid = [d for d in result.designs if not d.valid]
+    lines = [f"{result.scenario.name}: {len(result.designs)} designs tried, {len(valid)} valid, "
+             f"{len(invalid)} invalid\n"]
+    head = f"{'rank':>4}  {'id':<6}{'kind':<7}{'new':>4}{'cost':>9}{'NPV':>9}{'payback':>9}{'self-used':>11}  design"
+    units = f"{'':>4}  {'':<6}{'':<7}{'':>4}{cur:>9}{cur:>9}{'years':>9}{'kWh/yr':>11}"
+    lines += [head, units]
+    for i, d in enumerate(valid[:top], start=1):
+        e = d.economics
+        lines.append(f"{i:>4}  {d.id:<6}{d.candidate.coupling:<7}{d.candidate.new_modules:>4}{d.cost.total:>9.0f}"
+                     f"{e.npv:>9.0f}{_cell(e.simple_payback_years, '.1f'):>9}{d.added_self_consumed_kwh:>11.0f}  "
+                     f"{d.candidate.words()}")
+    if not valid:
+        lines.append("      (no valid design)")
+    if invalid:
+        counts: dict[str, int] = {}
+        for d in invalid:
+            for c in d.failed_checks:
+                counts[c] = counts.get(c, 0) + 1
+        lines += ["", "Invalid designs, by the check that fails (a design may fail several): "
+                  + ", ".join(f"{k} {v}" for k, v in sorted(counts.items(), key=lambda kv: -kv[1]))]
+    lines.append("")
+    for kind in ("overall", "dc", "ac"):
+        lines += textwrap.wrap(result.reasons[kind], width=110, initial_indent="- ", subsequent_indent="  ")
+    lines += ["", "Estimates, not a design approval: DC strings carry dangerous voltages, and AC work and any "
+              "grid-parallel generation must be done and signed off by licensed practitioners under local codes."]
+    return "\n".join(lines)
