@@ -40,6 +40,7 @@ class Part:
     modules_per_string: int | None = None
     strings: int | None = None
     restrung: str | None = None  # name of the existing array re-wired
+    joins: str | None = None  # name of an existing array whose controller input the new strings share
     existing_modules: int = 0  # its modules, re-wired with the new ones
     microinverter: str | None = None
     units: int | None = None
@@ -64,6 +65,8 @@ class Part:
             if self.restrung:
                 return (f"{n} on {self.face} re-strung with the {self.existing_modules} of '{self.restrung}' as "
                         f"{layout} on {self.controller}")
+            if self.joins:
+                return f"{n} on {self.face} as {layout} in parallel with '{self.joins}' on {self.controller}"
             return f"{n} on {self.face} as {layout} on {self.controller}"
         units = f"{self.units} × {self.microinverter}"
         side = "backed-up side" if self.side == "backed_up" else "grid side"
@@ -101,11 +104,13 @@ def dc_parts(sc: Scenario, spec: DesignSpec, face_name: str, count: int) -> list
                   for per, strings in factorisations(total) if per != a.modules_per_string]
         if count % a.modules_per_string == 0:
             parts.append(Part("dc", face_name, count, controller=a.controller, modules_per_string=a.modules_per_string,
-                              strings=count // a.modules_per_string))
+                              strings=count // a.modules_per_string, joins=a.name))
     if sc.battery is not None:
+        users = {a.controller: a.name for a in sc.arrays if a.coupling == "dc" and a.module_count > 0}
         for name in spec.controllers:
             for per, strings in factorisations(count):
-                part = Part("dc", face_name, count, controller=name, modules_per_string=per, strings=strings)
+                part = Part("dc", face_name, count, controller=name, modules_per_string=per, strings=strings,
+                            joins=users.get(name))
                 if part not in parts:
                     parts.append(part)
     return parts
