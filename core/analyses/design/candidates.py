@@ -6,8 +6,9 @@ DC parts, for each face and each count of new modules that fits:
   re-wired as every series × parallel factorisation of their sum on that array's controller (the factorisation
   with the array's own string length is not re-wiring: see the next item);
 * **added strings** — new strings of the existing length in parallel, when the count fills whole strings;
-* **own controller** — the new modules alone as every factorisation of their count on a candidate controller (a
-  controller no array uses is bought).
+* **own controller** — the new modules alone as every factorisation of their count on a candidate controller that
+  no array uses yet (it is bought). New modules share an existing controller's input only as added strings of
+  the same module, length and orientation (common practice: parallel strings on one MPPT input must match).
 
 AC parts: each candidate microinverter (⌈modules / inputs⌉ units), each side and each export-control mode.
 A design is one DC part, one AC part, or one of each on faces with room for both.
@@ -106,13 +107,14 @@ def dc_parts(sc: Scenario, spec: DesignSpec, face_name: str, count: int) -> list
             parts.append(Part("dc", face_name, count, controller=a.controller, modules_per_string=a.modules_per_string,
                               strings=count // a.modules_per_string, joins=a.name))
     if sc.battery is not None:
-        users = {a.controller: a.name for a in sc.arrays if a.coupling == "dc" and a.module_count > 0}
+        # Strings in parallel on one MPPT input must match (module, length, orientation): that is the
+        # added-strings case above; alone, new modules go on a controller that no array uses yet.
+        used = {a.controller for a in sc.arrays if a.coupling == "dc" and a.module_count > 0}
         for name in spec.controllers:
-            for per, strings in factorisations(count):
-                part = Part("dc", face_name, count, controller=name, modules_per_string=per, strings=strings,
-                            joins=users.get(name))
-                if part not in parts:
-                    parts.append(part)
+            if name in used:
+                continue
+            parts += [Part("dc", face_name, count, controller=name, modules_per_string=per, strings=strings)
+                      for per, strings in factorisations(count)]
     return parts
 
 
