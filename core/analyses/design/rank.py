@@ -75,3 +75,16 @@ def reasons(results: list[DesignResult]) -> dict[str, str]:
             continue
         out[kind] = reason(pool[0], pool[1] if len(pool) > 1 else None, kind)
     return out
+
+
+def cost_energy_front(results: list[DesignResult]) -> set[str]:
+    """Ids of the valid designs on the best front of cost against added self-consumed energy: no other valid
+    design costs as little or less and adds as much or more, with one of the two strictly better."""
+    valid = [r for r in results if r.valid]
+    front = set()
+    for r in valid:
+        c, e = r.cost.total, r.added_self_consumed_kwh
+        if not any((o.cost.total <= c and o.added_self_consumed_kwh >= e)
+                   and (o.cost.total < c or o.added_self_consumed_kwh > e) for o in valid):
+            front.add(r.id)
+    return front

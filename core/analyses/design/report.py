@@ -41,3 +41,34 @@ def format_search(result: SearchResult, top: int = 10) -> str:
     lines += ["", "Estimates, not a design approval: DC strings carry dangerous voltages, and AC work and any "
               "grid-parallel generation must be done and signed off by licensed practitioners under local codes."]
     return "\n".join(lines)
+
+
+#: Columns of :func:`design_frame` (energies kWh a year, money in the tariff's currency).
+FRAME_COLUMNS = ("rank", "id", "kind", "new_modules", "design", "cost", "npv", "payback_years",
+                 "self_consumed_added_kwh", "curtailed_added_kwh", "valid", "on_front", "why_invalid")
+
+
+def design_frame(result: SearchResult, include_invalid: bool = False):
+    """The ranked designs as a table (valid ones ranked 1…; invalid ones, when asked, with the failing rules)."""
+    import pandas as pd
+
+    from core.analyses.design.rank import cost_energy_front
+
+    front = cost_energy_front(result.designs)
+    rows = []
+    rank = 0
+    for d in result.designs:
+        if not d.valid and not include_invalid:
+            continue
+        rank += d.valid
+        e = d.economics
+        rows.append({
+            "rank": rank if d.valid else None, "id": d.id, "kind": d.candidate.coupling,
+            "new_modules": d.candidate.new_modules, "design": d.candidate.words(), "cost": d.cost.total,
+            "npv": None if e is None else e.npv, "payback_years": None if e is None else e.simple_payback_years,
+            "self_consumed_added_kwh": d.added_self_consumed_kwh,
+            "curtailed_added_kwh": None if d.added is None else d.added["curtailed_kwh"],
+            "valid": d.valid, "on_front": d.id in front,
+            "why_invalid": " ".join(d.reasons_invalid()),
+        })
+    return pd.DataFrame(rows, columns=list(FRAME_COLUMNS))
