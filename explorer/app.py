@@ -191,7 +191,7 @@ def main() -> None:
                                more=more, month=month, base_load_w=base_load,
                                options=options_table, verdict=verdict,
                                checks=found,
-                               settings=settings_list(option_sc, c))
+                               settings=settings_list(option_sc, c), designs=design_view.report_summary(sc))
         report.render(sc, c.option, sim, make_report)
 
 

@@ -90,3 +90,16 @@ def test_page_searches_and_loads_a_design(monkeypatch):
     assert not at.exception, [e.value for e in at.exception]
     assert at.session_state["c_option"] in ("ac_backed_up", "ac_grid")
     assert at.session_state["c_micro"] == "micro_350"
+
+
+def test_report_carries_the_search_summary(result):
+    from core.analyses.design.report import search_summary
+    from core.present.report_html import report_html
+    from core.simulate import simulate
+
+    sim = simulate(result.scenario)
+    summary = search_summary(result, top=3)
+    assert len(summary["rows"]) == min(3, len(result.valid))
+    text = report_html(sim, sim, option_label="Existing system", headline=[], designs=summary)
+    assert "Best layouts: the design search" in text and result.valid[0].id in text
+    assert "<script" not in text

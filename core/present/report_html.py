@@ -241,12 +241,13 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
                 more: Sequence[fig.Headline] = (), month: int | None = None,
                 base_load_w: Sequence[float] | None = None, options: pd.DataFrame | None = None,
                 verdict: str | None = None, checks: Sequence | None = None, settings: Sequence[tuple[str, str]] = (),
-                today: dt.date | None = None) -> str:
+                today: dt.date | None = None, designs=None) -> str:
     """The report as one HTML document.
 
     ``sim`` and ``baseline`` are :class:`core.simulate.SimulationResult` of the option and of the existing system;
     ``options`` a table of the options side by side (first column the figure, then one column per option);
-    ``checks`` design checks (objects with ``status``, ``id``, ``sentence``, ``source`` and ``caution``).
+    ``checks`` design checks (objects with ``status``, ``id``, ``sentence``, ``source`` and ``caution``);
+    ``designs`` a design search's summary (:func:`core.analyses.design.report.search_summary`).
     """
     sc = sim.scenario
     today = today or dt.date.today()
@@ -274,6 +275,11 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
         if verdict:
             parts.append(f"<p><strong>{_e(verdict)}</strong></p>")
         parts.append(_table(list(options.columns), options.astype(str).to_numpy().tolist()))
+
+    if designs is not None:
+        parts += [f"<h2>{_e(designs['title'])}</h2>", f"<p>{_e(designs['counts'])}</p>",
+                  "<ul>" + "".join(f"<li>{_e(r)}</li>" for r in designs["reasons"]) + "</ul>",
+                  _table(designs["header"], designs["rows"])]
 
     dest = fig.pv_destinations_by_month(sim.results.months)
     parts += ["<h2>Where the PV energy goes</h2>", "<figure>" + svg_stacked_bars(

@@ -37,6 +37,16 @@ def _load(values: dict) -> None:
     st.session_state.update(values)
 
 
+def report_summary(sc) -> dict | None:
+    """The last search's summary for the HTML report, when it was run on this scenario (else None)."""
+    from core.analyses.design.report import search_summary
+
+    stored = st.session_state.get("design_result")
+    if not stored or stored["result"].scenario.name != sc.name:
+        return None
+    return search_summary(stored["result"])
+
+
 def render(sc, caching) -> None:
     if sc.design is None and sc.expansion is None:
         st.info("Add [[faces]] and a [design] section (or an [expansion]) to the scenario to search its designs.")

@@ -72,3 +72,22 @@ def design_frame(result: SearchResult, include_invalid: bool = False):
             "why_invalid": " ".join(d.reasons_invalid()),
         })
     return pd.DataFrame(rows, columns=list(FRAME_COLUMNS))
+
+
+def search_summary(result: SearchResult, top: int = 10) -> dict:
+    """The search in a few lines for a report: title, counts, the reasons for the best, the top valid designs."""
+    cur = result.scenario.tariff.currency
+    rows = []
+    for i, d in enumerate(result.valid[:top], start=1):
+        e = d.economics
+        rows.append([str(i), d.id, d.candidate.words(), f"{d.cost.total:,.0f}", f"{e.npv:,.0f}",
+                     "—" if e.simple_payback_years is None else f"{e.simple_payback_years:.1f}",
+                     f"{d.added_self_consumed_kwh:,.0f}"])
+    invalid = len(result.designs) - len(result.valid)
+    return {"title": "Best layouts: the design search",
+            "counts": f"{len(result.designs)} designs tried: {len(result.valid)} valid, simulated for the year and "
+                      f"ranked by NPV; {invalid} fail a design check or send energy into the grid uncontrolled.",
+            "reasons": [result.reasons[k] for k in ("overall", "dc", "ac")],
+            "header": ["Rank", "Design", "What", f"Cost ({cur})", f"NPV ({cur})", "Simple payback (years)",
+                       "Added self-consumed (kWh/yr)"],
+            "rows": rows}
