@@ -272,3 +272,20 @@ def test_cli_compare_export_control(capsys):
     out = json.loads(capsys.readouterr().out)
     assert out["options"]["ac_backed_up"]["delta"]["exported_uncontrolled_kwh"] == pytest.approx(0.0, abs=1e-6)
     assert main(["compare", MAPLE, "--export-control", "sometimes"]) == 2
+
+
+def test_cli_design_top_keeps_the_best_of_each_kind_and_bad_input_exits_2(tmp_path, capsys):
+    assert main(["design", MANGROVE, "--json", "--top", "1"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    ids = {d["id"] for d in out["designs"]}
+    assert {i for i in out["best"].values() if i} <= ids
+    assert all(d["valid"] for d in out["designs"])
+    # nothing to design: neither [design] nor [expansion]
+    text = open(MANGROVE, encoding="utf-8").read()
+    bare = text[:text.index("[expansion]")] + text[text.index("[tariff]"):]
+    path = tmp_path / "scenario.toml"
+    path.write_text(bare.replace('"12839.tm2"', f'"{load_scenario(MANGROVE).weather.path}"'), encoding="utf-8")
+    (tmp_path / "load_backed_up.csv").write_bytes(open("sample_sites/mangrove_lane/load_backed_up.csv", "rb").read())
+    (tmp_path / "load_grid_only.csv").write_bytes(open("sample_sites/mangrove_lane/load_grid_only.csv", "rb").read())
+    assert main(["design", str(path)]) == 2
+    assert "nothing to design" in capsys.readouterr().err

@@ -37,9 +37,14 @@ class SearchResult:
         return [d for d in self.designs if d.valid]
 
     def to_dict(self, top: int | None = None) -> dict:
-        """The JSON of ``python -m core design``: designs (the ``top`` valid ones and, without ``top``, the
-        invalid ones after them) and the ids of the best; each best design carries its reason."""
-        shown = self.valid[:top] if top is not None else self.designs
+        """The JSON of ``python -m core design``: designs (without ``top`` all, the invalid ones after the valid
+        ones; with it the ``top`` best valid ones and any best of a kind below them) and the ids of the best; each
+        best design carries its reason."""
+        if top is None:
+            shown = self.designs
+        else:
+            bests = {d.id for d in self.best.values() if d is not None}
+            shown = [d for i, d in enumerate(self.valid) if i < top or d.id in bests]
         why = {d.id: self.reasons[k] for k, d in self.best.items() if d is not None}
         return {"designs": [{**d.to_dict(), "reason": why.get(d.id)} for d in shown],
                 "best": {k: (None if self.best[k] is None else self.best[k].id) for k in ("dc", "ac", "overall")}}
