@@ -200,11 +200,22 @@ def test_costs_add_up(maple):
         assert design.cost.total == pytest.approx(expected)
 
 
-def test_every_valid_design_passes_check_when_written_out(maple, tmp_path):
+@pytest.fixture(scope="module")
+def mangrove():
+    sc = load_scenario(MANGROVE)
+    site = prepare_site(sc)
+    cache = OrientationCache()
+    return sc, site, cache, search(sc, site=site, cache=cache)
+
+
+@pytest.mark.parametrize("site_fixture", ["maple", "mangrove"])
+def test_every_valid_design_passes_check_when_written_out(site_fixture, request, tmp_path):
     from core.analyses.design.build import write_design
 
-    sc, site, cache, result = maple
+    sc, site, cache, result = request.getfixturevalue(site_fixture)
     assert result.valid
+    # no valid design sends energy into a grid that may not be fed
+    assert all(d.figures["uncontrolled"] <= 1e-3 for d in result.valid)
     for d in result.valid:
         path = write_design(d.scenario, tmp_path / f"{d.id}.toml")
         written = load_scenario(path)
@@ -228,8 +239,8 @@ def test_written_best_reproduces_the_search(maple, tmp_path):
         assert e["exported_uncontrolled"] == pytest.approx(d.figures["uncontrolled"], abs=1e-9)
 
 
-def test_mangrove_lane_restringing_is_the_best_dc_answer_and_a_micro_part_pays_on_top():
-    result = search(load_scenario(MANGROVE))
+def test_mangrove_lane_restringing_is_the_best_dc_answer_and_a_micro_part_pays_on_top(mangrove):
+    result = mangrove[3]
     dc, overall = result.best["dc"], result.best["overall"]
     assert dc.candidate.parts[0].restrung is not None
     assert overall.candidate.coupling == "dc+ac"

@@ -10,8 +10,10 @@ KINDS = ("overall", "dc", "ac")
 
 
 def _key(r: DesignResult) -> tuple:
-    # Rounded NPV first (ties within NPV_TIE), then more self-consumed energy, then fewer modules, then the id.
-    return (-round(r.npv / NPV_TIE), -r.added_self_consumed_kwh, r.candidate.new_modules, r.id)
+    # Rounded NPV first (ties within NPV_TIE), then more self-consumed energy, then less energy unserved in outages
+    # (backed-up microinverters keep running in an outage), then fewer modules, then the id.
+    return (-round(r.npv / NPV_TIE), -round(r.added_self_consumed_kwh, 3), round(r.added["unserved_kwh"], 3),
+            r.candidate.new_modules, r.id)
 
 
 def ranked(results: list[DesignResult]) -> list[DesignResult]:
@@ -54,8 +56,13 @@ def reason(best: DesignResult, runner: DesignResult | None, kind: str) -> str:
             text += (f" It beats the runner-up ({runner.id}: {runner.candidate.words()}) by {_money(d_npv, cur)} of "
                      "NPV" + (f" although it adds {-d_kwh:.0f} kWh less." if d_kwh < -0.5 else "."))
         else:
-            more = (f"adds {d_kwh:.0f} kWh more self-consumed energy" if d_kwh > 0.5 else
-                    "adds as much energy; it comes first by fewer modules or by its place in the list")
+            d_unserved = runner.added["unserved_kwh"] - best.added["unserved_kwh"]
+            if d_kwh > 0.5:
+                more = f"adds {d_kwh:.0f} kWh more self-consumed energy"
+            elif d_unserved > 0.05:
+                more = f"adds as much energy, and leaves {d_unserved:.1f} kWh a year less unserved in outages"
+            else:
+                more = "adds as much energy; it comes first by fewer modules or by its place in the list"
             text += f" It ties the runner-up ({runner.id}: {runner.candidate.words()}) on NPV and {more}."
     return text
 
