@@ -300,3 +300,12 @@ def test_cli_design_top_keeps_the_best_of_each_kind_and_bad_input_exits_2(tmp_pa
     (tmp_path / "load_grid_only.csv").write_bytes(open("sample_sites/mangrove_lane/load_grid_only.csv", "rb").read())
     assert main(["design", str(path)]) == 2
     assert "nothing to design" in capsys.readouterr().err
+
+
+def test_search_reports_progress_to_the_end(mangrove):
+    sc, site, cache, _ = mangrove
+    seen = []
+    search(sc, site=site, cache=cache, progress=lambda f, what: seen.append((f, what)))
+    fractions = [f for f, _ in seen]
+    assert fractions == sorted(fractions) and fractions[0] == 0.0 and fractions[-1] == 1.0
+    assert any("simulated" in what for _, what in seen)
