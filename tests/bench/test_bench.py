@@ -217,7 +217,7 @@ def test_benchmark():
     assert mem["steps"] == 525_600
     peak_mb = mem["peak_mb"]
 
-    # -- the design search (issue 11): ≥ 100 candidates against a hand-built run per candidate -------------------
+    # -- the design search: ≥ 100 candidates against a hand-built run per candidate -------------------
     design = design_benchmark(sc, shared, site)
     assert design["candidates"] >= 100, design["candidates"]
     assert design["worst_import"] < 0.05, design["worst_import"]
