@@ -15,8 +15,8 @@ like) and that the compiled engine matches the plain loop to 1e-9. docs/performa
 * minute_over_hourly: a year at 60 s (525,600 steps, hourly weather interpolated, the 15-min load resampled) ÷ the
   hourly year, each from nothing (weather, sun, loads, orientations, engine, figures), best of a few runs;
 * steps_exponent: slope of log(time) against log(steps) over 15, 5 and 1 min steps;
-* design_ratio: the reference per candidate × the design search's candidates ÷ the search's time, from nothing
-  (``bench_design.py``);
+* design_ratio: the reference per candidate × the design search's candidates ÷ the search's time with the site
+  given to both sides (``bench_design.py``; the table adds the figure from nothing and against the simulated ones);
 * peak_mb: peak resident memory (``VmHWM``; ``ru_maxrss`` elsewhere) of a fresh process that runs the one-minute year;
 * numba's compile is measured apart, in a fresh process with an empty ``NUMBA_CACHE_DIR``.
 """
