@@ -6,6 +6,7 @@ Exit codes: 0 ok, 2 bad input (one line on stderr naming the place), 1 internal 
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import json
 import sys
 from collections.abc import Callable, Sequence
@@ -218,13 +219,45 @@ def _cmd_compare(args) -> int:
                          hint="add [expansion] with module, count, tilt_deg, azimuth_deg and a microinverter "
                               "and/or a controller")
     layout = _layout_from_args(sc, args)
+    if args.export_control is not None:
+        from core.scenario import AC_CONTROL_MODES
+
+        if args.export_control not in AC_CONTROL_MODES:
+            raise InputError(f"--export-control {args.export_control!r} is not a mode the engine knows",
+                             where="command line", hint=f"one of {', '.join(AC_CONTROL_MODES)}")
+        sc = sc.replace(grid=dataclasses.replace(sc.grid, ac_export_control=args.export_control))
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
     out = compare(sc, layout, progress=progress).to_dict()
     if args.json:
         print(json.dumps(out, indent=2))
     else:
+        from core.analyses.options import dc_layout_note
+
         print(f"{sc.name}: {layout.count} panel{'s' if layout.count != 1 else ''} at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
+        note = dc_layout_note(layout.count, sc.expansion.modules_per_string) if "dc" in out["options"] else None
+        if note:
+            print(note + "\n")
         print(format_comparison(out))
+    return EXIT_OK
+
+
+def _cmd_design(args) -> int:
+    from core.analyses.design import search, write_best
+    from core.analyses.design.report import format_search
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    if args.top is not None and args.top < 1:
+        raise InputError(f"--top {args.top} is below 1", where="command line", hint="give how many designs to show")
+    progress = stderr_progress("design") if sys.stderr.isatty() else None
+    result = search(sc, progress=progress)
+    written = write_best(result, args.write_best) if args.write_best else []
+    if args.json:
+        print(json.dumps(result.to_dict(top=args.top), indent=2))
+    else:
+        print(format_search(result, top=args.top or 10))
+    for path in written:
+        print(f"wrote {path}", file=sys.stderr)
     return EXIT_OK
 
 
@@ -319,6 +352,7 @@ _EPILOG = {
     "inspect-load": "example:\n  python -m core inspect-load meter.csv --timezone Europe/Berlin --json",
     "compare": "example:\n  python -m core compare sample_sites/maple_hollow/scenario.toml --count 4 --tilt 20 "
                "--azimuth 255 --json",
+    "design": "example:\n  python -m core design sample_sites/maple_hollow/scenario.toml --top 5 --write-best designs/",
     "check": "example:\n  python -m core check sample_sites/maple_hollow/scenario.toml",
     "spacing": "example:\n  python -m core spacing --latitude 41 --tilt 10 --length 1.7 --window 10-14 --json",
     "resolution": "example:\n  python -m core resolution sample_sites/maple_hollow/scenario.toml --option ac_backed_up",
@@ -369,6 +403,16 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--tilt", type=float, help="tilt of the new panels, degrees (default: the scenario's)")
     p.add_argument("--azimuth", type=float, help="azimuth of the new panels, degrees, 180 = south (default: the "
                    "scenario's)")
+    p.add_argument("--export-control", metavar="MODE",
+                   help="how AC-coupled output is held back, e.g. none or limiter (default: the scenario's "
+                        "grid.ac_export_control)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+
+    p = add("design", "search every DC and AC arrangement the roof faces allow; rank the valid ones by NPV",
+            _cmd_design)
+    p.add_argument("scenario", help="scenario file (TOML) with [design] and [[faces]], or an [expansion]")
+    p.add_argument("--top", type=int, help="show the N best valid designs (default: 10; in JSON all designs)")
+    p.add_argument("--write-best", metavar="DIR", help="write the best designs as scenario files into DIR")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = add("check", "design checks with cautions for the existing system and each expansion option", _cmd_check)

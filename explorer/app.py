@@ -42,12 +42,13 @@ from explorer.views import (  # noqa: E402
     start,
 )
 from explorer.views import compare as compare_view  # noqa: E402
+from explorer.views import design as design_view  # noqa: E402
 from explorer.views import resolution as resolution_view  # noqa: E402
 from explorer.views import sweep as sweep_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
-TABS = ("Energy by month", "Typical day", "Output vs base load", "Options", "Sweep", "Checks", "Outages",
-        "Data files", "Save and report")
+TABS = ("Energy by month", "Typical day", "Output vs base load", "Options", "Sweep", "Best layouts", "Checks",
+        "Outages", "Data files", "Save and report")
 
 
 class SessionFolder:
@@ -171,6 +172,8 @@ def main() -> None:
         resolution_view.render(sc, c.option)
     with tabs["Sweep"], section("Sweep"):
         sweep_view.render(sc, c, caching)
+    with tabs["Best layouts"], section("Best layouts"):
+        design_view.render(sc, caching)
     found = None
     with tabs["Checks"], section("Design checks"):
         found = run_checks(option_sc, sim, cache=caching.orientation_cache(sc), option=c.option)
@@ -188,7 +191,7 @@ def main() -> None:
                                more=more, month=month, base_load_w=base_load,
                                options=options_table, verdict=verdict,
                                checks=found,
-                               settings=settings_list(option_sc, c))
+                               settings=settings_list(option_sc, c), designs=design_view.report_summary(sc))
         report.render(sc, c.option, sim, make_report)
 
 

@@ -132,6 +132,12 @@ HOUSEHOLDS = {
         seed=7702, standing_w=120.0, fridge_w=160.0, office_w=220.0, cooking_w=1200.0, lighting_w=160.0,
         heating_w=300.0, cooling_w=1800.0, summer_peak_doy=20, water_heater_w=1500.0, dryer_w=0.0, ev_w=0.0,
         write_as="power_kw", separator=";", decimal=","),
+    # A retired couple's bungalow on the south-east Florida coast: hot and humid all year, air conditioning on the
+    # grid-only circuit, a pool pump and a home workshop by day, no heating; a full year at 30 minutes.
+    "mangrove_lane": Household(
+        folder="mangrove_lane", timezone="America/New_York", start="2025-01-01", end="2026-01-01", step="30min",
+        seed=4417, standing_w=240.0, fridge_w=150.0, office_w=450.0, cooking_w=1000.0, lighting_w=150.0,
+        heating_w=0.0, cooling_w=3200.0, summer_peak_doy=215, water_heater_w=900.0, dryer_w=2200.0, ev_w=0.0),
 }
 
 

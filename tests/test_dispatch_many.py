@@ -3,7 +3,7 @@
 The one-variant engine is checked against hand-worked cases (tests/test_dispatch.py) and the energy identity
 (tests/test_balance.py); the batched engine must give each variant exactly what ``dispatch`` gives on its own,
 compiled and as plain Python, into a fresh array or into a reused buffer. Tolerance 1e-9 W as for the
-compiled-against-plain check (issue 6).
+compiled-against-plain check.
 """
 
 from __future__ import annotations

@@ -63,18 +63,36 @@ def layout_of(sc: Scenario) -> Layout:
 
 
 def dc_string_layout(count: int, modules_per_string: int | None) -> tuple[int, int]:
-    """(modules per string, strings) for ``count`` new modules on a controller.
+    """(modules per string, strings) for ``count`` new modules on a controller, using every one of them.
 
-    The scenario's modules-per-string is kept and strings are added as the count grows; a count
-    that does not fill whole strings is rounded down to whole strings (parallel strings on one MPPT
-    input must be of equal length). Without a given string length all modules form one string.
+    Parallel strings on one MPPT input must be of equal length. The scenario's modules-per-string is kept when
+    the count fills whole strings of it; otherwise the count is arranged as the equal strings whose length is
+    nearest (``core.analyses.design.strings.nearest_arrangements``: 3 modules at 2 per string become one string
+    of 3) — never rounded to fewer modules than are priced. The string checks then judge that arrangement, and
+    :func:`dc_layout_note` says in words when it differs from the scenario's. Without a given length all modules
+    form one string.
     """
+    from core.analyses.design.strings import nearest_arrangements
+
     if count <= 0:
         return 0, 0
     per = modules_per_string or count
-    if count < per:
-        return count, 1  # fewer modules than one string: one shorter string
-    return per, count // per
+    if count % per == 0:
+        return per, count // per
+    return nearest_arrangements(count, per)[0]
+
+
+def dc_layout_note(count: int, modules_per_string: int | None) -> str | None:
+    """A sentence when ``count`` does not fill whole strings of the scenario's length (None when it does)."""
+    from core.analyses.design.strings import describe, nearest_arrangements
+
+    if count <= 0 or not modules_per_string or count % modules_per_string == 0:
+        return None
+    per, strings = dc_string_layout(count, modules_per_string)
+    others = [describe(p, s) for p, s in nearest_arrangements(count, modules_per_string)[1:]]
+    return (f"{count} modules do not form equal strings of {modules_per_string}; the DC-coupled option arranges all "
+            f"{count} as {describe(per, strings)}" + (f" (or {', '.join(others)})" if others else "")
+            + f". For strings of {modules_per_string}, add or remove panels to a multiple of {modules_per_string}.")
 
 
 def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scenario:

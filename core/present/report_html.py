@@ -91,7 +91,7 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
                 more: Sequence[fig.Headline] = (), month: int | None = None,
                 base_load_w: Sequence[float] | None = None, options: pd.DataFrame | None = None,
                 verdict: str | None = None, checks: Sequence | None = None, settings: Sequence[tuple[str, str]] = (),
-                today: dt.date | None = None) -> str:
+                today: dt.date | None = None, designs=None) -> str:
     """The report as one HTML document: no scripts, nothing fetched, charts as inline SVG.
 
     Parameters
@@ -116,6 +116,8 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
         The what-if settings in words.
     today : datetime.date, optional
         The report's date; today when not given.
+    designs : dict, optional
+        A design search's summary (:func:`core.analyses.design.report.search_summary`).
 
     Returns
     -------
@@ -148,6 +150,11 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
         if verdict:
             parts.append(f"<p><strong>{_e(verdict)}</strong></p>")
         parts.append(_table(list(options.columns), options.astype(str).to_numpy().tolist()))
+
+    if designs is not None:
+        parts += [f"<h2>{_e(designs['title'])}</h2>", f"<p>{_e(designs['counts'])}</p>",
+                  "<ul>" + "".join(f"<li>{_e(r)}</li>" for r in designs["reasons"]) + "</ul>",
+                  _table(designs["header"], designs["rows"])]
 
     dest = fig.pv_destinations_by_month(sim.results.months)
     parts += ["<h2>Where the PV energy goes</h2>", "<figure>" + chart_svg(

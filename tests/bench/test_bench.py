@@ -1,7 +1,7 @@
 """Speed and scale: secondroof against a hand-written reference, on a sample site (``make bench``).
 
 Not part of ``make test`` (``addopts`` skips ``tests/bench``) and never a timed assertion: it prints a table and
-one last line ``bench: sweep_ratio=… slider_ratio=… minute_over_hourly=… steps_exponent=… peak_mb=…``.
+one last line ``bench: sweep_ratio=… slider_ratio=… minute_over_hourly=… steps_exponent=… peak_mb=… design_ratio=…``.
 What it does assert is that the reference and secondroof compute the same year (the ratios compare like with
 like) and that the compiled engine matches the plain loop to 1e-9. docs/performance.md explains the figures.
 
@@ -15,6 +15,8 @@ like) and that the compiled engine matches the plain loop to 1e-9. docs/performa
 * minute_over_hourly: a year at 60 s (525,600 steps, hourly weather interpolated, the 15-min load resampled) ÷ the
   hourly year, each from nothing (weather, sun, loads, orientations, engine, figures), best of a few runs;
 * steps_exponent: slope of log(time) against log(steps) over 15, 5 and 1 min steps;
+* design_ratio: the reference per candidate × the design search's candidates ÷ the search's time with the site
+  given to both sides (``bench_design.py``; the table adds the figure from nothing and against the simulated ones);
 * peak_mb: peak resident memory (``VmHWM``; ``ru_maxrss`` elsewhere) of a fresh process that runs the one-minute year;
 * numba's compile is measured apart, in a fresh process with an empty ``NUMBA_CACHE_DIR``.
 """
@@ -38,6 +40,7 @@ import pandas as pd
 import pvlib
 import pytest
 from bench_child import page_update, warm_engine
+from bench_design import design_benchmark
 from bench_reference import reference_year, shared_inputs
 
 from core.analyses.compare import compare
@@ -65,9 +68,9 @@ REPEATS = {3600: 5, 900: 3, 300: 2, 60: 2}
 REFERENCE_REPEATS = 2
 
 TARGETS = {"sweep_ratio": (">=", 50.0), "slider_ratio": (">=", 20.0), "minute_over_hourly": ("<=", 15.0),
-           "steps_exponent": ("<=", 1.1), "peak_mb": ("<=", 1500.0)}
+           "steps_exponent": ("<=", 1.1), "peak_mb": ("<=", 1500.0), "design_ratio": (">=", 50.0)}
 FORMATS = {"sweep_ratio": ".1f", "slider_ratio": ".1f", "minute_over_hourly": ".2f", "steps_exponent": ".3f",
-           "peak_mb": ".0f"}
+           "peak_mb": ".0f", "design_ratio": ".1f"}
 
 
 def _child(args: list[str], env: dict | None = None) -> dict:
@@ -154,7 +157,7 @@ def test_benchmark():
             worst_flow = max(worst_flow, float(np.abs(fast - ref.flows).max()))
     assert worst_potential < 0.05, worst_potential
     assert worst_import < 0.05, worst_import
-    assert worst_flow <= 1e-9, worst_flow  # issue 6: compiled results match the plain loop to 1e-9
+    assert worst_flow <= 1e-9, worst_flow  # compiled results match the plain loop to 1e-9
     reference_s = statistics.median(ref_times)
 
     # -- a 500-scenario sweep from nothing but the scenario file ---------------------------------------------------
@@ -214,10 +217,15 @@ def test_benchmark():
     assert mem["steps"] == 525_600
     peak_mb = mem["peak_mb"]
 
+    # -- the design search: ≥ 100 candidates against a hand-built run per candidate -------------------
+    design = design_benchmark(sc, shared, site)
+    assert design["candidates"] >= 100, design["candidates"]
+    assert design["worst_import"] < 0.05, design["worst_import"]
+
     sweep_ratio = reference_s / sweep_per
     slider_ratio = reference_s / slider_s
     figures = {"sweep_ratio": sweep_ratio, "slider_ratio": slider_ratio, "minute_over_hourly": minute_over_hourly,
-               "steps_exponent": exponent, "peak_mb": peak_mb}
+               "steps_exponent": exponent, "peak_mb": peak_mb, "design_ratio": design["design_ratio"]}
 
     rows += [
         ("machine", _machine(), ""),
@@ -251,6 +259,14 @@ def test_benchmark():
         ("peak memory, minute year", f"{peak_mb:.0f} MB",
          f"fresh process ({mem['seconds']:.1f} s), {mem['rss_before_mb']:.0f} MB after imports; "
          f"{_verdict('peak_mb', peak_mb)}"),
+        ("design search", f"{design['search_s']:.2f} s",
+         f"{design['candidates']} candidates, {design['simulated']} simulated, site given ("
+         f"{design['from_nothing_s']:.2f} s from nothing); reference "
+         f"{design['reference_per_s'] * 1000:.0f} ms per candidate (median of {design['reference_designs']})"),
+        ("  design ratio", f"{design['design_ratio']:.1f}",
+         f"{_verdict('design_ratio', design['design_ratio'])}; against the simulated ones only "
+         f"{design['design_ratio_simulated']:.1f}; from nothing "
+         f"{design['design_ratio'] * design['search_s'] / design['from_nothing_s']:.1f}"),
         ("sweep ratio", f"{sweep_ratio:.1f}", _verdict("sweep_ratio", sweep_ratio)),
         ("slider ratio", f"{slider_ratio:.1f}", _verdict("slider_ratio", slider_ratio)),
         ("bench wall time", f"{time.perf_counter() - started:.0f} s", ""),

@@ -1,1 +1,1 @@
-"""Robustness: bad input, extreme sites, numeric guards and file safety (issue 7), with figures to show for it."""
+"""Robustness: bad input, extreme sites, numeric guards and file safety, with figures to show for it."""

@@ -1,0 +1,111 @@
+"""Best layouts: the design search's ranked valid designs, the cost-against-energy picture, and a way to try one
+with the what-if controls."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from core.analyses.design import search
+from core.analyses.design.report import design_frame
+from explorer import charts, charts_design
+
+#: The what-if controls' session keys (explorer.views.controls) that a loaded design sets.
+_COUPLING = {"backed_up": "ac_backed_up", "grid": "ac_grid"}
+
+
+def controls_for(design, spec) -> dict | None:
+    """Session values that put a one-part design into the what-if controls, or None when they cannot show it
+    (a re-strung array, another controller than [expansion]'s, or two parts)."""
+    if len(design.candidate.parts) != 1:
+        return None
+    (p,) = design.candidate.parts
+    face = spec.face(p.face)
+    values = {"c_count": int(p.modules), "c_tilt": int(round(face.tilt_deg)),
+              "c_azimuth": int(round(face.azimuth_deg)) % 360, "c_module": spec.module}
+    if p.coupling == "ac":
+        return {**values, "c_option": _COUPLING[p.side], "c_micro": p.microinverter,
+                "c_limiter": p.export_control == "limiter"}
+    sc = design.scenario
+    e = sc.expansion
+    if p.restrung or e is None or p.controller != e.controller:
+        return None
+    return {**values, "c_option": "dc"}
+
+
+def _load(values: dict) -> None:
+    # Runs as a callback, before the page is drawn again, so the sidebar's widgets may still be set.
+    st.session_state.update(values)
+
+
+def report_summary(sc) -> dict | None:
+    """The last search's summary for the HTML report, when it was run on this scenario (else None)."""
+    from core.analyses.design.report import search_summary
+
+    stored = st.session_state.get("design_result")
+    if not stored or stored["result"].scenario.name != sc.name:
+        return None
+    return search_summary(stored["result"])
+
+
+def render(sc, caching) -> None:
+    if sc.design is None and sc.expansion is None:
+        st.info("Add [[faces]] and a [design] section (or an [expansion]) to the scenario to search its designs.")
+        return
+    key = caching.site_key(sc) + repr((sc.faces, sc.design, sc.expansion, sc.arrays, sc.battery, sc.grid,
+                                       sc.tariff, sc.controllers, sc.microinverters, sc.modules))
+    left, right = st.columns([4, 1.3], vertical_alignment="bottom")
+    left.markdown("Every arrangement of the new modules that the roof faces and the candidate controllers and "
+                  "microinverters allow: re-strung with the existing modules, on a controller of their own, on "
+                  "microinverters, or both. Designs that fail a check are left out; the rest are simulated for the "
+                  "year and ranked by NPV.")
+    run = right.button("Search the designs", type="primary", key="design_run")
+    stored = st.session_state.get("design_result")
+    if run:
+        bar = st.progress(0.0, text="Preparing the search…")
+
+        def progress(fraction: float, message: str) -> None:
+            bar.progress(min(max(fraction, 0.0), 1.0), text=f"Search: {message}")
+
+        result = search(sc, site=caching.site_data(sc), cache=caching.orientation_cache(sc), progress=progress)
+        bar.empty()
+        stored = {"key": key, "result": result}
+        st.session_state["design_result"] = stored
+    if not stored or stored["result"].scenario.name != sc.name:
+        st.info("Press *Search the designs* to try every arrangement (a few seconds).")
+        return
+    if stored["key"] != key:
+        st.warning("The settings changed since this search: press *Search the designs* to update it.")
+    result = stored["result"]
+    cur = result.scenario.tariff.currency
+    for kind in ("overall", "dc", "ac"):
+        st.markdown(f"- {result.reasons[kind]}")
+    with_invalid = st.toggle("Show the invalid designs too, with the rule each one fails", key="design_invalid")
+    frame = design_frame(result, include_invalid=with_invalid)
+    st.caption(f"{len(result.designs)} designs tried, {len(result.valid)} valid.")
+    table = frame.drop(columns=["valid"] if not with_invalid else []).rename(columns={
+        "rank": "Rank", "id": "Design", "kind": "Kind", "new_modules": "New modules", "design": "What",
+        "cost": f"Cost ({cur})", "npv": f"NPV ({cur})", "payback_years": "Simple payback (years)",
+        "self_consumed_added_kwh": "Added self-consumed (kWh/yr)", "curtailed_added_kwh": "Added curtailed (kWh/yr)",
+        "valid": "Valid", "on_front": "On the best front", "why_invalid": "Why not valid"})
+    st.dataframe(table, hide_index=True, width="stretch", column_config={
+        f"Cost ({cur})": st.column_config.NumberColumn(format="%.0f"),
+        f"NPV ({cur})": st.column_config.NumberColumn(format="%.0f"),
+        "Simple payback (years)": st.column_config.NumberColumn(format="%.1f"),
+        "Added self-consumed (kWh/yr)": st.column_config.NumberColumn(format="%.0f"),
+        "Added curtailed (kWh/yr)": st.column_config.NumberColumn(format="%.0f")})
+    if result.valid:
+        charts.draw(charts_design.design_scatter(design_frame(result), cur))
+        ids = [d.id for d in result.valid]
+        chosen = st.selectbox("Try a design with the what-if controls", ids, key="design_pick",
+                              format_func=lambda i: f"{i}: {result.get(i).candidate.words()}")
+        design = result.get(chosen)
+        values = controls_for(design, result.spec)
+        if values is None:
+            st.caption("The what-if controls cannot show this design (re-strung modules, another controller or two "
+                       "parts); download it as a scenario file and open that instead.")
+        else:
+            st.button("Load into the what-if controls", key="design_load", on_click=_load, args=(values,))
+        from explorer.state import scenario_download
+
+        st.download_button("Download this design as a scenario file", scenario_download(design.scenario, ""),
+                           file_name=f"design_{chosen}.toml", mime="application/toml", key="design_download")
