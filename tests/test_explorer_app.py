@@ -31,6 +31,12 @@ def _app(monkeypatch, scenario: Path = MAPLE) -> AppTest:
     return at
 
 
+def _tab(at: AppTest, label: str) -> AppTest:
+    """Show one tab (a tab draws only while it is shown), as a click on it would."""
+    at.session_state["view"] = label
+    return at.run()
+
+
 def _ok(at: AppTest) -> None:
     assert not at.exception, [e.value for e in at.exception]
     assert not at.error, [e.value for e in at.error]
@@ -74,6 +80,23 @@ def test_runs_on_every_sample_site(monkeypatch, site):
     assert any("licensed electrician" in md.value for md in at.markdown)
 
 
+@pytest.mark.parametrize("site", sorted(state.sample_sites(SAMPLES).items()), ids=lambda s: s[0])
+def test_every_tab_draws_only_when_shown_and_without_an_error(monkeypatch, site):
+    from explorer.app import VIEWS
+
+    at = _app(monkeypatch, site[1])
+    for label, _ in VIEWS:
+        _tab(at, label)
+        _ok(at)
+        # the safety cautions stay at the foot of every view
+        assert any("licensed electrician" in md.value for md in at.markdown), label
+    # a hidden tab draws nothing: the options table is on the page only while its tab is shown
+    _tab(at, "Energy by month")
+    assert not any("Against the existing system" in d.value.columns for d in at.dataframe)
+    _tab(at, "Options")
+    assert any("Against the existing system" in d.value.columns for d in at.dataframe)
+
+
 def test_more_panels_raise_ac_harvest_and_never_lower_curtailment(monkeypatch):
     at = _app(monkeypatch)
     _ok(at)
@@ -100,6 +123,7 @@ def test_switching_coupling_changes_the_figures(monkeypatch):
     assert dc != ac
     assert ac_used > 0 and _line_figure(at, "AC-coupled PV used") == 0.0  # DC-coupled panels feed the DC bus
     # the options tab names the sidebar's choice
+    _tab(at, "Options")
     assert any("*DC-coupled*" in md.value for md in at.markdown)
 
 
@@ -107,6 +131,7 @@ def test_malformed_load_upload_shows_one_error_and_the_page_keeps_working(monkey
     at = _app(monkeypatch)
     before = _headline(at)
     garbage = b"this is not,a load file\n\x00\x01\x02 nothing here\n"
+    _tab(at, "Data files")
     at.file_uploader(key="load_file").set_value(("meter.csv", garbage, "text/csv")).run()
     assert not at.exception
     assert len(at.error) == 1 and "meter.csv" in at.error[0].value
@@ -127,6 +152,7 @@ def test_saved_scenario_reloads_to_the_same_figures(monkeypatch):
     at.radio(key="c_outages").set_value("random").run()
     _ok(at)
     figures = _headline(at)
+    _tab(at, "Save and report")
     text = at.session_state["scenario_download"]
     name = at.session_state["scenario_download_name"]
     assert re.fullmatch(r"maple-hollow_\d{4}-\d{2}-\d{2}\.toml", name)
@@ -212,6 +238,7 @@ def test_uploading_the_sites_own_load_file_keeps_the_figures_and_shows_its_summa
     at = _app(monkeypatch)
     before = _headline(at)
     data = (MAPLE.parent / "load_backed_up.csv").read_bytes()
+    _tab(at, "Data files")
     at.file_uploader(key="load_file").set_value(("my_meter.csv", data, "text/csv")).run()
     _ok(at)
     assert any("my_meter.csv" in s.value for s in at.success)
@@ -229,6 +256,7 @@ def test_uploaded_weather_file_is_summarised_and_used(monkeypatch):
     at = _app(monkeypatch)
     before = _headline(at)
     own = (MAPLE.parent / "723170TYA.CSV").read_bytes()
+    _tab(at, "Data files")
     at.file_uploader(key="weather_file").set_value(("greensboro.csv", own, "text/csv")).run()
     _ok(at)
     assert _headline(at) == before  # the same TMY3 year under another name
@@ -244,6 +272,7 @@ def test_resolution_view_shows_what_the_hourly_model_hides(monkeypatch):
     # Maple Hollow's load is measured every 15 minutes: short AC-coupled surpluses average out within an hour,
     # so the hourly year sees less surplus than the load's own step, never more.
     at = _app(monkeypatch)
+    _tab(at, "Options")
     _ok(at)
     at.button(key="resolution_run").click().run()
     _ok(at)

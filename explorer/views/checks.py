@@ -29,9 +29,22 @@ def line(c) -> str:
             f"<span style='color:#666;font-size:0.85em'>Source: {html.escape(c.source)}</span>")
 
 
-def render(checks) -> None:
+def render(m) -> None:
+    """Two groups, each flagged first: what the new panels change or add, and the existing system as it is."""
+    st.markdown(f"#### With the new panels ({m.label}, {m.count} panel{'s' if m.count != 1 else ''})")
+    if m.count > 0 and not m.changed_checks:
+        st.caption("The new panels change no check's outcome.")
+    elif m.changed_checks:
+        group(m.changed_checks)
+    else:
+        st.caption("No panels are added.")
+    st.markdown("#### The existing system as it is")
+    group(m.existing_checks, empty="No design checks apply to the existing system.")
+
+
+def group(checks, empty: str = "No design checks apply to this setting.") -> None:
     if not checks:
-        st.info("No design checks apply to this setting.")
+        st.info(empty)
         return
     ordered = sorted(checks, key=lambda c: _ORDER.get(c.status, 3))
     counts = {s: sum(c.status == s for c in checks) for s in ("fail", "warn", "pass")}
@@ -41,7 +54,7 @@ def render(checks) -> None:
     for c in flagged:
         st.markdown(line(c), unsafe_allow_html=True)
     if not flagged:
-        st.success("Every check passes for this setting.")
+        st.success("Every check here passes.")
     if passed:
         with st.expander(f"Passed checks ({len(passed)})"):
             for c in passed:

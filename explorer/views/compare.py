@@ -10,6 +10,8 @@ import streamlit as st
 from core.analyses.options import OPTION_LABELS
 from core.present.figures import fmt_kwh, fmt_pct, fmt_years
 from explorer import charts
+from explorer.guard import section
+from explorer.views import resolution
 
 #: (delta key, label) of the energy rows, kWh a year against the existing system.
 ENERGY_ROWS = (
@@ -59,11 +61,12 @@ def chart_frame(comparison) -> pd.DataFrame:
                          for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
 
 
-def render(comparison, chosen: str):
-    """Draw the comparison; returns (table for the report, verdict text) or (None, None)."""
+def render(m) -> None:
+    """The options side by side with the verdict, then what an hourly model would hide."""
+    comparison, chosen = m.comparison, m.option
     if len(comparison.options) < 2:
         st.info("The scenario's [expansion] allows no option to compare.")
-        return None, None
+        return
     lay = comparison.layout
     st.markdown(f"**{lay.count} panel{'s' if lay.count != 1 else ''} at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth**, each way of "
                 f"connecting them against the existing system. The sidebar's choice, "
@@ -89,4 +92,6 @@ def render(comparison, chosen: str):
                "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "
                "export earns nothing. Investment: the scenario's cost_ac / cost_dc, priced per panel when the count "
                "differs from the file's.")
-    return table, v.text
+    st.divider()
+    with section("Time resolution"):
+        resolution.render(m)

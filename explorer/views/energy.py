@@ -8,7 +8,8 @@ from core.present.figures import DESTINATIONS, MONTH_NAMES, pv_destinations_by_m
 from explorer import charts
 
 
-def render(sim, baseline) -> None:
+def render(m) -> None:
+    sim, baseline = m.sim, m.baseline
     frame = pv_destinations_by_month(sim.results.months)
     charts.draw(charts.pv_destinations_chart(frame))
     table = frame.pivot_table(index="destination", columns="month", values="kwh", sort=False)

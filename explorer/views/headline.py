@@ -35,10 +35,11 @@ def _line(h: Headline) -> None:
     st.caption(f"existing system: {fmt_value(h.baseline, h.unit)}")
 
 
-def render(main: list[Headline], more: list[Headline]) -> None:
-    """Eight cards in two rows of four, then the remaining figures on one line."""
-    cards = [*main, *more][:8]
-    rest = [*main, *more][8:]
+def render(m) -> None:
+    """The chosen option in words, eight cards in two rows of four, then the remaining figures on one line."""
+    st.markdown(f"**{m.label}, {m.count} panel{'s' if m.count != 1 else ''}** against the existing system")
+    cards = [*m.headline, *m.more][:8]
+    rest = [*m.headline, *m.more][8:]
     for row in (cards[:4], cards[4:8]):
         for col, h in zip(st.columns(4), row, strict=False):
             with col:
