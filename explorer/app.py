@@ -135,7 +135,8 @@ def main() -> None:
 
     model = None
     with head, section("Settings"):
-        model = caching.page_model(state.build_scenario(base, c), c.option)
+        identity = f"{source.identity}|{id(source.scenario)}|{data_files.overrides()!r}"
+        model = caching.page_model(caching.built_scenario(identity, base, c), c.option)
         headline.render(model)
 
     for label, render in VIEWS:

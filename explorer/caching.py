@@ -112,6 +112,19 @@ def comparison(sc: Scenario):
     return _comparison(comparison_key(sc), sc)
 
 
+@st.cache_resource(max_entries=96, show_spinner=False)
+def _built(key: str, _base: Scenario, controls):
+    from explorer.state import build_scenario
+
+    return build_scenario(_base, controls)
+
+
+def built_scenario(identity: str, base: Scenario, controls) -> Scenario:
+    """:func:`explorer.state.build_scenario` once per base scenario (``identity``: the chosen scenario and the
+    uploads in use) and setting of the controls."""
+    return _built(identity, base, controls)
+
+
 @st.cache_resource(max_entries=48, show_spinner=False)
 def _page_model(key: str, option: str, _sc: Scenario):
     from explorer.page_model import build_page_model
