@@ -57,7 +57,7 @@ def options_table(comparison) -> pd.DataFrame:
 
 def chart_frame(comparison) -> pd.DataFrame:
     labels = dict(ENERGY_ROWS)
-    return pd.DataFrame([{"option": OPTION_LABELS[k], "figure": labels[key], "kwh": r.delta[key]}
+    return pd.DataFrame([{"option": k, "label": OPTION_LABELS[k], "figure": labels[key], "kwh": r.delta[key]}
                          for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
 
 

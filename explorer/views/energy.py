@@ -4,14 +4,21 @@ from __future__ import annotations
 
 import streamlit as st
 
-from core.present.figures import DESTINATIONS, MONTH_NAMES, pv_destinations_by_month
+from core.present.figures import (
+    DESTINATIONS,
+    MONTH_NAMES,
+    pv_destinations_by_month,
+    pv_destinations_by_system,
+)
 from explorer import charts
 
 
 def render(m) -> None:
     sim, baseline = m.sim, m.baseline
     frame = pv_destinations_by_month(sim.results.months)
-    charts.draw(charts.pv_destinations_chart(frame))
+    both = pv_destinations_by_system({"Existing system": baseline.results.months,
+                                      f"With the new panels ({m.label})": sim.results.months})
+    charts.draw(charts.pv_destinations_chart(both))
     table = frame.pivot_table(index="destination", columns="month", values="kwh", sort=False)
     table.columns = [MONTH_NAMES[m - 1] for m in table.columns]
     table["Year"] = table.sum(axis=1)
