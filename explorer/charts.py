@@ -47,10 +47,11 @@ def pv_destinations_chart(frame: pd.DataFrame) -> alt.Chart:
     if len(systems) > 1:
         tooltip.insert(0, alt.Tooltip("system:N", title="System"))
         extra = {"xOffset": alt.XOffset("system:N", sort=systems),
-                 "opacity": alt.Opacity("system:N", sort=systems, legend=_legend("System"),
+                 "opacity": alt.Opacity("system:N", sort=systems, legend=None,
                                         scale=alt.Scale(domain=systems,
                                                         range=[0.45, *[1.0] * (len(systems) - 1)]))}
-        subtitle = f"energy per month (kWh); in each month: {', then '.join(systems)}"
+        subtitle = (f"energy per month (kWh); in each month the pale bar is the {systems[0].lower()}, then "
+                    + ", ".join(s[:1].lower() + s[1:] for s in systems[1:]))
     return alt.Chart(frame, title=alt.Title("Where the PV energy goes, month by month",
                                             subtitle=subtitle)).mark_bar().encode(
         x=alt.X("month_name:N", sort=list(MONTH_NAMES), title="Month", axis=alt.Axis(labelAngle=0)),

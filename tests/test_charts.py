@@ -233,7 +233,8 @@ def test_monthly_chart_draws_the_existing_system_beside_the_new_one():
     assert len(frame) == 2 * 12 * len(figures.DESTINATIONS)
     spec = _spec(charts.pv_destinations_chart(frame))
     assert spec["encoding"]["xOffset"]["field"] == "system"
-    assert spec["encoding"]["opacity"]["legend"]["title"] == "System"
+    assert spec["encoding"]["opacity"]["scale"]["range"] == [0.45, 1.0]  # the existing system's bars are pale
+    assert "pale bar is the existing system" in spec["title"]["subtitle"]
     rows = spec["datasets"][spec["data"]["name"]]
     existing = [r for r in rows if r["system"] == "Existing system" and r["destination"] == "Used directly by the loads"]
     assert len(existing) == 12 and all(r["kwh"] == 1.0 for r in existing)
@@ -273,3 +274,20 @@ def test_typical_day_shows_what_the_panels_could_make_and_what_was_lost():
     scale = spec["layer"][0]["encoding"]["color"]["scale"]
     colours = dict(zip(scale["domain"], scale["range"], strict=True))
     assert "What the panels could make" in colours and "Curtailed or clipped" in colours
+
+
+def test_cautions_are_said_once_on_a_view():
+    # The checks' own cautions overlap one another and the standing safety notes: what they add is said once.
+    from core.analyses.checks import CAUTION_AC, CAUTION_BATTERY, CAUTION_DC, CAUTION_MICRO
+    from core.present.cautions import distinct_cautions
+    from core.present.safety import SAFETY_CAUTIONS
+
+    alone = distinct_cautions([CAUTION_AC, CAUTION_MICRO, CAUTION_MICRO])
+    assert sum("licensed electrician" in s for s in alone) == 1
+    assert "Microinverters must be certified for the local grid code." in alone
+    beside_notes = distinct_cautions([CAUTION_AC, CAUTION_MICRO, CAUTION_BATTERY + " " + CAUTION_MICRO, CAUTION_DC],
+                                     already=SAFETY_CAUTIONS)
+    assert not any("licensed electrician" in s for s in beside_notes)  # the safety notes say it already
+    assert "A battery pushed past its charge limits is a fire risk." in beside_notes
+    assert any("qualified installer" in s for s in beside_notes)
+    assert len(beside_notes) == len(set(beside_notes))

@@ -280,3 +280,84 @@ def test_resolution_view_shows_what_the_hourly_model_hides(monkeypatch):
     assert len(frames) == 1
     surplus = frames[0].set_index("Figure").loc["AC-coupled surplus over the loads (kWh/yr)"]
     assert surplus["At the load's own step"] >= surplus["Hourly"] > 0
+
+
+# ------------------------------------------------------------------------------------------- rough edges
+def _week(path: Path, days: int = 7) -> bytes:
+    """The first ``days`` days of a load file (its header and rows in time order)."""
+    lines = path.read_text("utf-8").splitlines()
+    step_s = 900  # Maple Hollow's load: one reading every 15 minutes
+    return ("\n".join(lines[: 1 + days * 86400 // step_s]) + "\n").encode()
+
+
+def test_a_one_week_load_file_is_refused_beside_no_success_and_twelve_monthly_figures_build_the_year(monkeypatch):
+    at = _app(monkeypatch)
+    before = _headline(at)
+    _tab(at, "Data files")
+    at.file_uploader(key="load_file").set_value(("week.csv", _week(MAPLE.parent / "load_backed_up.csv"),
+                                                 "text/csv")).run()
+    assert not at.exception
+    # one error that names the file and the rule, and no claim of success beside it
+    assert len(at.error) == 1 and "week.csv cannot be used" in at.error[0].value
+    assert "21 days" in at.error[0].value and "keeps its own load" in at.error[0].value
+    assert not at.success
+    assert at.table, "the data-quality summary is still shown, so the user sees the 7-day span"
+    # the scenario's own load stays in use: the figures are there, and the tab's own summary of it
+    assert _headline(at) == before
+    assert any("3,815 kWh per year" in e.label for e in at.expander)
+
+    # twelve monthly figures (from bills): with all twelve, the week gives the shape of the days
+    bills = [620, 540, 480, 380, 330, 330, 360, 370, 320, 360, 450, 580]  # kWh, an invented household
+    for key, kwh in zip(state_keys(), bills, strict=True):
+        at.number_input(key=key).set_value(float(kwh))
+    at.run()
+    assert not at.exception and not at.error, [e.value for e in at.error]
+    assert any("week.csv" in s.value and "monthly figures" in s.value for s in at.success)
+    # the year now holds the bills' energy: Maple Hollow's own backed-up load is 3,815 kWh a year
+    assert _headline(at) != before
+    assert any(f"{sum(bills):,.0f} kWh per year" in e.label for e in at.expander)
+    # and stays in use on every other tab
+    _tab(at, "Energy by month")
+    _ok(at)
+    assert not any("Fix the setting" in i.value for i in at.info)
+    assert _headline(at) != before
+
+
+def state_keys():
+    from explorer.views.data_files import BILL_KEYS
+
+    return BILL_KEYS
+
+
+def test_the_resolution_table_is_never_shown_for_another_setting(monkeypatch):
+    at = _app(monkeypatch)
+    _tab(at, "Options")
+    at.button(key="resolution_run").click().run()
+    _ok(at)
+    assert any("Hidden by the hourly model" in d.value.columns for d in at.dataframe)
+    at.slider(key="c_battery").set_value(at.slider(key="c_battery").value + 2.0).run()  # not the layout
+    _ok(at)
+    assert not any("Hidden by the hourly model" in d.value.columns for d in at.dataframe)
+    assert any("settings changed" in i.value for i in at.info)
+
+
+def test_the_payback_card_fits_and_says_what_it_leaves_out():
+    import math
+
+    from core.present.figures import Headline
+    from explorer.views.headline import card_value
+
+    never = Headline("payback", "Simple payback", "years", math.inf, None, False)
+    value, note = card_value(never, 20)
+    assert value == "> 20 years" and len(value) <= 11  # a quarter of a 1280-px page holds about 11 characters
+    assert "20-year analysis period" in note
+    assert card_value(Headline("payback", "Simple payback", "years", 9.84, None, False), 20) == ("9.8 years", "")
+
+
+def test_the_checks_view_says_each_caution_once(monkeypatch):
+    at = _app(monkeypatch)  # Maple Hollow's AC-coupled option leaks and warns: its checks carry cautions
+    _tab(at, "Checks")
+    _ok(at)
+    text = " ".join([w.value for w in at.warning] + [md.value for md in at.markdown])
+    assert text.count("licensed electrician") == 1  # the safety notes at the foot, and nowhere else
+    assert any("fire risk" in w.value for w in at.warning)

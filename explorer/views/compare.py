@@ -86,7 +86,8 @@ def render(m) -> None:
                 for r in why:
                     st.markdown(f"- {r}")
     table = options_table(comparison)
-    st.dataframe(table, hide_index=True, width="stretch", height=36 * (len(table) + 1) + 3)
+    # every row and no blank one below them: Streamlit's rows and header are 35 px, plus the frame's 2 px
+    st.dataframe(table, hide_index=True, width="stretch", row_height=35, height=35 * (len(table) + 1) + 2)
     charts.draw(charts.options_chart(chart_frame(comparison)))
     st.caption("More to the loads from PV = grid import saved + load served in outages that went unserved before. "
                "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "

@@ -60,7 +60,16 @@ def _show_quality(q: dict) -> None:
     if reasons:
         st.caption("Rejected rows: " + "; ".join(f"{k}: {v:,}" for k, v in reasons.items()))
     for w in q.get("warnings") or []:
-        st.warning(w)
+        _warn_once(w)
+
+
+def _warn_once(text: str) -> None:
+    """A warning box, unless this view already showed the same text (an upload and the data in use can be the
+    same file)."""
+    shown = st.session_state.setdefault("_data_warnings_shown", set())
+    if text not in shown:
+        shown.add(text)
+        st.warning(text)
 
 
 def latlon(latitude: float, longitude: float) -> str:
@@ -131,6 +140,7 @@ def _bills(sc: Scenario, channel: str) -> tuple[float | None, ...] | None:
 
 def render_uploads(sc: Scenario, folder: Path) -> None:
     """Load and weather uploads with their summaries; a file is used only once the year can be built from it."""
+    st.session_state["_data_warnings_shown"] = set()  # a new run of the view: nothing shown yet
     folder = folder / "data"
     folder.mkdir(parents=True, exist_ok=True)
     timezone = sc.load.timezone or site_timezone(sc)
@@ -269,7 +279,7 @@ def render_current(sim) -> None:
                                    f"{year.partial_days} partly measured and {year.filled_days} filled days "
                                    f"({year.annual_kwh:,.0f} kWh). {year.method}")
                         for w in year.warnings:
-                            st.warning(w)
+                            _warn_once(w)
                 elif notes.get("method"):
                     st.caption(f"No load file: {notes['method']}.")
                 else:
