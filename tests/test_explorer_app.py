@@ -361,3 +361,15 @@ def test_the_checks_view_says_each_caution_once(monkeypatch):
     text = " ".join([w.value for w in at.warning] + [md.value for md in at.markdown])
     assert text.count("licensed electrician") == 1  # the safety notes at the foot, and nowhere else
     assert any("fire risk" in w.value for w in at.warning)
+
+
+def test_the_verdict_lists_each_option_it_set_aside(monkeypatch):
+    # Red Dune: DC-coupled wins on energy while the AC-coupled options, which give the loads more, leak into a
+    # zero-export grid; the verdict shown says so beside the table, not only inside "Why".
+    at = _app(monkeypatch, SAMPLES / "red_dune" / "scenario.toml")
+    _tab(at, "Options")
+    _ok(at)
+    shown = [md.value for md in at.markdown]
+    assert any(t.startswith("On energy, DC-coupled wins") and t.endswith("Set aside:") for t in shown)
+    bullets = next(t for t in shown if t.startswith("- AC-coupled, backed-up side: More to the loads from PV"))
+    assert "Uncontrolled export" in bullets and "- AC-coupled, grid side: More to the loads from PV" in bullets

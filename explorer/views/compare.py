@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 
 import pandas as pd
 import streamlit as st
@@ -61,6 +62,13 @@ def chart_frame(comparison) -> pd.DataFrame:
                          for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
 
 
+def verdict_parts(first: str, labels) -> list[str]:
+    """The verdict's first sentence cut where it names an option it set aside, so that each can be a line
+    of its own; the text is unchanged otherwise (joined, the parts give it back)."""
+    names = "|".join(re.escape(label) for label in labels)
+    return [p for p in re.split(rf"(?:\. Set aside — |— |\. )(?=(?:{names}): More to the loads|On energy)", first) if p]
+
+
 def render(m) -> None:
     """The options side by side with the verdict, then what an hourly model would hide."""
     comparison, chosen = m.comparison, m.option
@@ -78,7 +86,21 @@ def render(m) -> None:
         first, *why = v.reasons or (v.text,)
         money = [r for r in why if r.startswith("On money")]
         why = [r for r in why if r not in money]
-        st.markdown(first)
+        parts = [p.strip() for p in verdict_parts(first, [OPTION_LABELS[k] for k in comparison.options])]
+        aside = [p.rstrip(".") + "." for p in parts if not p.startswith(("No option", "On energy"))]
+        energy = [p for p in parts if p.startswith("On energy")]
+        if not energy and not parts[0].startswith("No option"):
+            st.markdown(first)  # nothing compared (no expansion, no panels): the sentence as it is
+        elif parts[0].startswith("No option"):
+            st.markdown(f"**{parts[0]}:**")
+            st.markdown("\n".join(f"- {p}" for p in aside))
+            for p in energy:
+                st.markdown(p)
+        else:
+            for p in energy:
+                st.markdown(p.rstrip(".") + "." + (" Set aside:" if aside else ""))
+            if aside:
+                st.markdown("\n".join(f"- {p}" for p in aside))
         for r in money:
             st.markdown(r)
         if why:
