@@ -32,8 +32,6 @@ DEFAULT_OUTAGE_HOURS = 4.0
 #: Largest upload the page accepts (bytes): a year of one-minute readings in CSV is about 20 MB.
 MAX_UPLOAD_BYTES = 40 * 1024 * 1024
 
-#: The comment line that carries the chosen coupling in a downloaded scenario (the schema has no key for it).
-
 
 @dataclass(frozen=True)
 class Controls:
