@@ -127,7 +127,7 @@ def _bills(sc: Scenario, channel: str) -> tuple[float | None, ...] | None:
                    "with all twelve, one week of readings is enough to build the year. Leave a month blank "
                    "when it has no figure.")
         for row in (range(0, 6), range(6, 12)):
-            cols = st.columns(6)
+            cols = st.columns(6, gap="small")
             for col, m in zip(cols, row, strict=True):
                 key = BILL_KEYS[m]
                 if key not in st.session_state and own is not None:
@@ -148,6 +148,7 @@ def render_uploads(sc: Scenario, folder: Path) -> None:
     names = st.session_state.get(_NAMES, {})
 
     left, right = st.columns(2, gap="large")
+    below = st.container()  # the monthly figures, full width under both columns (filled once the channel is read)
     with left:
         st.markdown("#### Measured load")
         if current.load_path:
@@ -166,7 +167,9 @@ def render_uploads(sc: Scenario, folder: Path) -> None:
         column = c1.text_input("Column (blank: found from the header)", key="load_column").strip() or None
         unit_choice = c2.selectbox("Unit", UNIT_CHOICES, key="load_unit")
         unit = None if unit_choice == UNIT_CHOICES[0] else unit_choice
+    with below:
         bills = _bills(sc, channel)
+    with left:
         if upload is not None:
             with section("Load file"):
                 data = upload.getvalue()
@@ -178,8 +181,11 @@ def render_uploads(sc: Scenario, folder: Path) -> None:
                     _check_year(str(path), timezone, unit, column, sc.site.latitude, sc.site.longitude, bills)
                 except InputError as exc:
                     kept = "its own load" if not current.load_path else names.get("load", "the earlier upload")
+                    short = "days of load data" in exc.message and (bills is None or None in bills)
                     st.error(f"{upload.name} cannot be used: {private(exc.message)}"
-                             + (f" ({private(exc.hint)})" if exc.hint else "")
+                             + (" — or enter all twelve *Monthly figures* below (e.g. from bills): with them, one "
+                                "week of readings is enough" if short else
+                                f" ({private(exc.hint)})" if exc.hint else "")
                              + f". The simulation keeps {kept}.")
                 else:
                     if candidate != current:
