@@ -32,13 +32,19 @@ def _years(x: float | None) -> str:
     return fmt_years(math.inf if x is None else x)
 
 
+def _kwh(x: float, *, signed: bool) -> str:
+    """An energy difference; none at all is "0 kWh", not "+0 kWh"."""
+    text = fmt_kwh(x, signed=signed)
+    return text[1:] if text.startswith("+0 ") else text
+
+
 def options_table(comparison) -> pd.DataFrame:
     """Figures × options, as text with units (the baseline column holds the existing system's own year)."""
     opts = [k for k in comparison.options if k != "baseline"]
     rows = []
     for key, label in ENERGY_ROWS:
-        rows.append([label + " (kWh/yr)", *[fmt_kwh(comparison.options[k].delta[key], signed=key != "exported_uncontrolled_kwh")
-                                            for k in opts]])
+        rows.append([label + " (kWh/yr)", *[_kwh(comparison.options[k].delta[key],
+                                                 signed=key != "exported_uncontrolled_kwh") for k in opts]])
     rows.append(["Hours with uncontrolled export (h/yr)",
                  *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
     rows.append(["More battery cycles (per year)",

@@ -21,9 +21,11 @@ def render(m) -> None:
     charts.draw(charts.pv_destinations_chart(both))
     table = frame.pivot_table(index="destination", columns="month", values="kwh", sort=False)
     table.columns = [MONTH_NAMES[m - 1] for m in table.columns]
+    months = list(table.columns)
     table["Year"] = table.sum(axis=1)
     base = {label: baseline.results.energy_kwh[key] for key, label in DESTINATIONS}
     table["Existing, year"] = [base[d] for d in table.index]
+    table = table[["Year", "Existing, year", *months]]  # the year first: it must not hide behind a scroll bar
     table.index.name = "kWh"
     st.dataframe(table.map(lambda v: f"{v:,.0f}"), width="stretch")
     st.caption("Used directly: PV output taken by the loads as it is made. Into the battery: PV energy charged "
