@@ -69,14 +69,14 @@ def orientation_cache(sc: Scenario) -> OrientationCache:
 
 @st.cache_data(max_entries=24, show_spinner=False)
 def _base_load(key: str, reference: str, _sc: Scenario, option: str) -> list[float]:
-    from explorer.derived import daytime_base_load_w
+    from core.present.reference_loads import daytime_base_load_w
 
     return [float(v) for v in daytime_base_load_w(_sc, site_data(_sc), option)]
 
 
 def daytime_base_load(sc: Scenario, option: str) -> list[float]:
     """The monthly daytime base load (W) of the loads the option's AC-coupled output meets first."""
-    from explorer.derived import reference_label
+    from core.present.reference_loads import reference_label
 
     return _base_load(site_key(sc), reference_label(sc, option), sc, option)
 
@@ -88,8 +88,39 @@ def _comparison(key: str, _sc: Scenario):
     return compare(_sc, site=site_data(_sc), cache=orientation_cache(_sc))
 
 
+def comparison_key(sc: Scenario) -> str:
+    """What a comparison depends on: the site and every section of the system, the expansion and the tariff."""
+    return site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers", "microinverters",
+                                    "arrays", "grid", "expansion", "tariff"))
+
+
 def comparison(sc: Scenario):
     """Every applicable option of the scenario (its expansion's layout) against the existing system:
     :func:`core.analyses.compare.compare` on the cached site and orientations."""
-    return _comparison(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
-                                                "microinverters", "arrays", "grid", "expansion", "tariff")), sc)
+    return _comparison(comparison_key(sc), sc)
+
+
+@st.cache_resource(max_entries=96, show_spinner=False)
+def _built(key: str, _base: Scenario, controls):
+    from explorer.state import build_scenario
+
+    return build_scenario(_base, controls)
+
+
+def built_scenario(identity: str, base: Scenario, controls) -> Scenario:
+    """:func:`explorer.state.build_scenario` once per base scenario (``identity``: the chosen scenario and the
+    uploads in use) and setting of the controls."""
+    return _built(identity, base, controls)
+
+
+@st.cache_resource(max_entries=48, show_spinner=False)
+def _page_model(key: str, option: str, _sc: Scenario):
+    from explorer.page_model import build_page_model
+
+    return build_page_model(_sc, option, _comparison(key, _sc))
+
+
+def page_model(sc: Scenario, option: str):
+    """The page's figures for the chosen option (:class:`explorer.page_model.PageModel`), built once per
+    setting from the cached comparison."""
+    return _page_model(comparison_key(sc), option, sc)

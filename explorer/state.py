@@ -264,6 +264,9 @@ class DataOverrides:
     load_column: str | None = None
     load_unit: str | None = None
     weather_path: str | None = None
+    # Twelve monthly totals (kWh, None for a month without one) for ``load_channel``: they scale the filled days
+    # of its record to the bills, and with all twelve a week of readings is enough to build the year.
+    monthly_kwh: tuple[float | None, ...] | None = None
 
 
 def apply_overrides(sc: Scenario, ov: DataOverrides) -> Scenario:
@@ -279,6 +282,9 @@ def apply_overrides(sc: Scenario, ov: DataOverrides) -> Scenario:
             load = dataclasses.replace(sc.load, path=ov.load_path, column=ov.load_column, monthly_kwh=None,
                                        unit=ov.load_unit)
         sc = dataclasses.replace(sc, load=load)
+    if ov.monthly_kwh is not None:
+        key = "grid_only_monthly_kwh" if ov.load_channel == "grid_only" else "monthly_kwh"
+        sc = dataclasses.replace(sc, load=dataclasses.replace(sc.load, **{key: tuple(ov.monthly_kwh)}))
     if ov.weather_path:
         sc = dataclasses.replace(sc, weather=dataclasses.replace(sc.weather, source="file", path=ov.weather_path,
                                                                  format=None))

@@ -180,14 +180,16 @@ def test_duration_and_options_and_outage_charts_have_units():
     daylight = (steps.index.hour >= 6) & (steps.index.hour < 18)
     d = _spec(charts.surplus_duration_chart(figures.ac_surplus_duration(steps, daylight, 1.0)))
     assert all(_has_unit(t) for t in _titles(d)) and len(_titles(d)) >= 2
-    options = pd.DataFrame({"option": ["AC-coupled, backed-up side", "DC-coupled"] * 2,
+    options = pd.DataFrame({"option": ["ac_backed_up", "dc"] * 2,
+                            "label": ["AC-coupled, backed-up side", "DC-coupled"] * 2,
                             "figure": ["More to the loads from PV"] * 2 + ["More curtailed"] * 2,
                             "kwh": [400.0, 380.0, 120.0, 130.0]})
     o = _spec(charts.options_chart(options))
-    assert o["encoding"]["xOffset"]["field"] == "option"
+    assert o["encoding"]["xOffset"]["field"] == "label"
     assert o["encoding"]["y"]["title"] == "Change (kWh/yr)"
     scale = o["encoding"]["color"]["scale"]
     assert scale["domain"] == ["AC-coupled, backed-up side", "DC-coupled"]
+    assert scale["range"] == ["#E69F00", "#0072B2"]  # Okabe–Ito orange and blue
     steps.loc[steps.index[10:14], "grid_up"] = False
     out = _spec(charts.outage_chart(figures.outage_events(steps, 1.0, 10_000.0)))
     assert out["encoding"]["y"]["title"] == "Hours (h)"
@@ -209,3 +211,83 @@ def test_sweep_heatmap_marks_flagged_cells_and_frames_the_current_one():
     off = _spec(charts.sweep_heatmap(frame, x="azimuth_deg", x_title="Azimuth (°)",
                                      current={"count": 2, "azimuth_deg": 255}))
     assert [layer["mark"]["type"] for layer in off["layer"]] == ["rect", "circle", "text"]
+
+
+def test_option_colours_follow_the_option_not_its_wording():
+    # one mapping, keyed by option: a label reworded (or translated) keeps its option's colour
+    frame = pd.DataFrame({"option": ["dc", "ac_grid", "baseline"], "label": ["Auf dem DC-Bus", "Netzseite", "Heute"],
+                          "figure": ["x"] * 3, "kwh": [1.0, 2.0, 0.0]})
+    scale = _spec(charts.options_chart(frame))["encoding"]["color"]["scale"]
+    assert dict(zip(scale["domain"], scale["range"], strict=True)) == {
+        "Auf dem DC-Bus": figures.OPTION_COLOURS["dc"], "Netzseite": figures.OPTION_COLOURS["ac_grid"],
+        "Heute": figures.OPTION_COLOURS["baseline"]}
+    assert set(figures.OPTION_COLOURS) == {"baseline", "ac_backed_up", "ac_grid", "dc"}
+
+
+def test_monthly_chart_draws_the_existing_system_beside_the_new_one():
+    months = [{"month": m, "pv_direct": 1.0, "pv_to_battery": 2.0, "curtailed": 3.0, "clipped": 0.0,
+               "exported": 0.0} for m in range(1, 13)]
+    more = [{**m, "pv_direct": 5.0} for m in months]
+    frame = figures.pv_destinations_by_system({"Existing system": months, "With the new panels": more})
+    assert set(frame["system"]) == {"Existing system", "With the new panels"}
+    assert len(frame) == 2 * 12 * len(figures.DESTINATIONS)
+    spec = _spec(charts.pv_destinations_chart(frame))
+    assert spec["encoding"]["xOffset"]["field"] == "system"
+    assert spec["encoding"]["opacity"]["scale"]["range"] == [0.45, 1.0]  # the existing system's bars are pale
+    assert "pale bar is the existing system" in spec["title"]["subtitle"]
+    rows = spec["datasets"][spec["data"]["name"]]
+    existing = [r for r in rows if r["system"] == "Existing system" and r["destination"] == "Used directly by the loads"]
+    assert len(existing) == 12 and all(r["kwh"] == 1.0 for r in existing)
+
+
+def test_duration_curve_stops_at_the_axis_instead_of_lying_along_it():
+    # a deficit far below the surplus: the axis ends at -max(2 x surplus, 500 W) and the curve is not drawn below
+    frame = pd.DataFrame({"hours": np.arange(1.0, 7.0), "surplus_w": [300.0, 100.0, -200.0, -700.0, -1500.0,
+                                                                       -3000.0]})
+    spec = _spec(charts.surplus_duration_chart(frame))
+    curve = spec["layer"][1]
+    assert curve["encoding"]["y"]["scale"]["domain"] == [-600.0, 300.0]
+    assert "clamp" not in curve["encoding"]["y"]["scale"]
+    drawn = spec["datasets"][curve["data"]["name"]]
+    assert min(r["surplus_w"] for r in drawn) == -200.0
+    assert any("not drawn" in line for line in spec["title"]["subtitle"])
+    # with nothing below the axis, nothing is said
+    calm = _spec(charts.surplus_duration_chart(frame.iloc[:3]))
+    assert not any("not drawn" in line for line in calm["title"]["subtitle"])
+
+
+def test_typical_day_shows_what_the_panels_could_make_and_what_was_lost():
+    steps = _steps()
+    sun = steps["dc_out_w"] / 1000.0
+    steps["pv_potential_dc_w"] = 1100.0 * sun
+    steps["pv_potential_ac_w"] = 450.0 * sun
+    for col in ("curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w", "clipped_dc_w"):
+        steps[col] = 0.0
+    steps["curtailed_acb_w"] = 30.0 * sun
+    steps["clipped_dc_w"] = 20.0 * sun
+    steps["clipped_ac_w"] = 0.0
+    day = figures.typical_day(steps, 6, usable_wh=10_000.0)
+    at = day.set_index(["series", "hour"])["value"]
+    assert at[("What the panels could make", 12.0)] == pytest.approx(1550.0)
+    assert at[("Curtailed or clipped", 12.0)] == pytest.approx(50.0)
+    spec = _spec(charts.typical_day_chart(day, "June"))
+    scale = spec["layer"][0]["encoding"]["color"]["scale"]
+    colours = dict(zip(scale["domain"], scale["range"], strict=True))
+    assert "What the panels could make" in colours and "Curtailed or clipped" in colours
+
+
+def test_cautions_are_said_once_on_a_view():
+    # The checks' own cautions overlap one another and the standing safety notes: what they add is said once.
+    from core.analyses.checks import CAUTION_AC, CAUTION_BATTERY, CAUTION_DC, CAUTION_MICRO
+    from core.present.cautions import distinct_cautions
+    from core.present.safety import SAFETY_CAUTIONS
+
+    alone = distinct_cautions([CAUTION_AC, CAUTION_MICRO, CAUTION_MICRO])
+    assert sum("licensed electrician" in s for s in alone) == 1
+    assert "Microinverters must be certified for the local grid code." in alone
+    beside_notes = distinct_cautions([CAUTION_AC, CAUTION_MICRO, CAUTION_BATTERY + " " + CAUTION_MICRO, CAUTION_DC],
+                                     already=SAFETY_CAUTIONS)
+    assert not any("licensed electrician" in s for s in beside_notes)  # the safety notes say it already
+    assert "A battery pushed past its charge limits is a fire risk." in beside_notes
+    assert any("qualified installer" in s for s in beside_notes)
+    assert len(beside_notes) == len(set(beside_notes))

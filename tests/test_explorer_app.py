@@ -31,6 +31,12 @@ def _app(monkeypatch, scenario: Path = MAPLE) -> AppTest:
     return at
 
 
+def _tab(at: AppTest, label: str) -> AppTest:
+    """Show one tab (a tab draws only while it is shown), as a click on it would."""
+    at.session_state["view"] = label
+    return at.run()
+
+
 def _ok(at: AppTest) -> None:
     assert not at.exception, [e.value for e in at.exception]
     assert not at.error, [e.value for e in at.error]
@@ -74,6 +80,23 @@ def test_runs_on_every_sample_site(monkeypatch, site):
     assert any("licensed electrician" in md.value for md in at.markdown)
 
 
+@pytest.mark.parametrize("site", sorted(state.sample_sites(SAMPLES).items()), ids=lambda s: s[0])
+def test_every_tab_draws_only_when_shown_and_without_an_error(monkeypatch, site):
+    from explorer.app import VIEWS
+
+    at = _app(monkeypatch, site[1])
+    for label, _ in VIEWS:
+        _tab(at, label)
+        _ok(at)
+        # the safety cautions stay at the foot of every view
+        assert any("licensed electrician" in md.value for md in at.markdown), label
+    # a hidden tab draws nothing: the options table is on the page only while its tab is shown
+    _tab(at, "Energy by month")
+    assert not any("Against the existing system" in d.value.columns for d in at.dataframe)
+    _tab(at, "Options")
+    assert any("Against the existing system" in d.value.columns for d in at.dataframe)
+
+
 def test_more_panels_raise_ac_harvest_and_never_lower_curtailment(monkeypatch):
     at = _app(monkeypatch)
     _ok(at)
@@ -100,6 +123,7 @@ def test_switching_coupling_changes_the_figures(monkeypatch):
     assert dc != ac
     assert ac_used > 0 and _line_figure(at, "AC-coupled PV used") == 0.0  # DC-coupled panels feed the DC bus
     # the options tab names the sidebar's choice
+    _tab(at, "Options")
     assert any("*DC-coupled*" in md.value for md in at.markdown)
 
 
@@ -107,6 +131,7 @@ def test_malformed_load_upload_shows_one_error_and_the_page_keeps_working(monkey
     at = _app(monkeypatch)
     before = _headline(at)
     garbage = b"this is not,a load file\n\x00\x01\x02 nothing here\n"
+    _tab(at, "Data files")
     at.file_uploader(key="load_file").set_value(("meter.csv", garbage, "text/csv")).run()
     assert not at.exception
     assert len(at.error) == 1 and "meter.csv" in at.error[0].value
@@ -127,6 +152,7 @@ def test_saved_scenario_reloads_to_the_same_figures(monkeypatch):
     at.radio(key="c_outages").set_value("random").run()
     _ok(at)
     figures = _headline(at)
+    _tab(at, "Save and report")
     text = at.session_state["scenario_download"]
     name = at.session_state["scenario_download_name"]
     assert re.fullmatch(r"maple-hollow_\d{4}-\d{2}-\d{2}\.toml", name)
@@ -212,6 +238,7 @@ def test_uploading_the_sites_own_load_file_keeps_the_figures_and_shows_its_summa
     at = _app(monkeypatch)
     before = _headline(at)
     data = (MAPLE.parent / "load_backed_up.csv").read_bytes()
+    _tab(at, "Data files")
     at.file_uploader(key="load_file").set_value(("my_meter.csv", data, "text/csv")).run()
     _ok(at)
     assert any("my_meter.csv" in s.value for s in at.success)
@@ -229,6 +256,7 @@ def test_uploaded_weather_file_is_summarised_and_used(monkeypatch):
     at = _app(monkeypatch)
     before = _headline(at)
     own = (MAPLE.parent / "723170TYA.CSV").read_bytes()
+    _tab(at, "Data files")
     at.file_uploader(key="weather_file").set_value(("greensboro.csv", own, "text/csv")).run()
     _ok(at)
     assert _headline(at) == before  # the same TMY3 year under another name
@@ -244,6 +272,7 @@ def test_resolution_view_shows_what_the_hourly_model_hides(monkeypatch):
     # Maple Hollow's load is measured every 15 minutes: short AC-coupled surpluses average out within an hour,
     # so the hourly year sees less surplus than the load's own step, never more.
     at = _app(monkeypatch)
+    _tab(at, "Options")
     _ok(at)
     at.button(key="resolution_run").click().run()
     _ok(at)
@@ -251,3 +280,96 @@ def test_resolution_view_shows_what_the_hourly_model_hides(monkeypatch):
     assert len(frames) == 1
     surplus = frames[0].set_index("Figure").loc["AC-coupled surplus over the loads (kWh/yr)"]
     assert surplus["At the load's own step"] >= surplus["Hourly"] > 0
+
+
+# ------------------------------------------------------------------------------------------- rough edges
+def _week(path: Path, days: int = 7) -> bytes:
+    """The first ``days`` days of a load file (its header and rows in time order)."""
+    lines = path.read_text("utf-8").splitlines()
+    step_s = 900  # Maple Hollow's load: one reading every 15 minutes
+    return ("\n".join(lines[: 1 + days * 86400 // step_s]) + "\n").encode()
+
+
+def test_a_one_week_load_file_is_refused_beside_no_success_and_twelve_monthly_figures_build_the_year(monkeypatch):
+    at = _app(monkeypatch)
+    before = _headline(at)
+    _tab(at, "Data files")
+    at.file_uploader(key="load_file").set_value(("week.csv", _week(MAPLE.parent / "load_backed_up.csv"),
+                                                 "text/csv")).run()
+    assert not at.exception
+    # one error that names the file and the rule, and no claim of success beside it
+    assert len(at.error) == 1 and "week.csv cannot be used" in at.error[0].value
+    assert "21 days" in at.error[0].value and "keeps its own load" in at.error[0].value
+    assert not at.success
+    assert at.table, "the data-quality summary is still shown, so the user sees the 7-day span"
+    # the scenario's own load stays in use: the figures are there, and the tab's own summary of it
+    assert _headline(at) == before
+    assert any("3,815 kWh per year" in e.label for e in at.expander)
+
+    # twelve monthly figures (from bills): with all twelve, the week gives the shape of the days
+    bills = [620, 540, 480, 380, 330, 330, 360, 370, 320, 360, 450, 580]  # kWh, an invented household
+    for key, kwh in zip(state_keys(), bills, strict=True):
+        at.number_input(key=key).set_value(float(kwh))
+    at.run()
+    assert not at.exception and not at.error, [e.value for e in at.error]
+    assert any("week.csv" in s.value and "monthly figures" in s.value for s in at.success)
+    # the year now holds the bills' energy: Maple Hollow's own backed-up load is 3,815 kWh a year
+    assert _headline(at) != before
+    assert any(f"{sum(bills):,.0f} kWh per year" in e.label for e in at.expander)
+    # and stays in use on every other tab
+    _tab(at, "Energy by month")
+    _ok(at)
+    assert not any("Fix the setting" in i.value for i in at.info)
+    assert _headline(at) != before
+
+
+def state_keys():
+    from explorer.views.data_files import BILL_KEYS
+
+    return BILL_KEYS
+
+
+def test_the_resolution_table_is_never_shown_for_another_setting(monkeypatch):
+    at = _app(monkeypatch)
+    _tab(at, "Options")
+    at.button(key="resolution_run").click().run()
+    _ok(at)
+    assert any("Hidden by the hourly model" in d.value.columns for d in at.dataframe)
+    at.slider(key="c_battery").set_value(at.slider(key="c_battery").value + 2.0).run()  # not the layout
+    _ok(at)
+    assert not any("Hidden by the hourly model" in d.value.columns for d in at.dataframe)
+    assert any("settings changed" in i.value for i in at.info)
+
+
+def test_the_payback_card_fits_and_says_what_it_leaves_out():
+    import math
+
+    from core.present.figures import Headline
+    from explorer.views.headline import card_value
+
+    never = Headline("payback", "Simple payback", "years", math.inf, None, False)
+    value, note = card_value(never, 20)
+    assert value == "> 20 years" and len(value) <= 11  # a quarter of a 1280-px page holds about 11 characters
+    assert "20-year analysis period" in note
+    assert card_value(Headline("payback", "Simple payback", "years", 9.84, None, False), 20) == ("9.8 years", "")
+
+
+def test_the_checks_view_says_each_caution_once(monkeypatch):
+    at = _app(monkeypatch)  # Maple Hollow's AC-coupled option leaks and warns: its checks carry cautions
+    _tab(at, "Checks")
+    _ok(at)
+    text = " ".join([w.value for w in at.warning] + [md.value for md in at.markdown])
+    assert text.count("licensed electrician") == 1  # the safety notes at the foot, and nowhere else
+    assert any("fire risk" in w.value for w in at.warning)
+
+
+def test_the_verdict_lists_each_option_it_set_aside(monkeypatch):
+    # Red Dune: DC-coupled wins on energy while the AC-coupled options, which give the loads more, leak into a
+    # zero-export grid; the verdict shown says so beside the table, not only inside "Why".
+    at = _app(monkeypatch, SAMPLES / "red_dune" / "scenario.toml")
+    _tab(at, "Options")
+    _ok(at)
+    shown = [md.value for md in at.markdown]
+    assert any(t.startswith("On energy, DC-coupled wins") and t.endswith("Set aside:") for t in shown)
+    bullets = next(t for t in shown if t.startswith("- AC-coupled, backed-up side: More to the loads from PV"))
+    assert "Uncontrolled export" in bullets and "- AC-coupled, grid side: More to the loads from PV" in bullets

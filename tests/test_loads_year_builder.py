@@ -123,6 +123,23 @@ def test_fewer_than_21_days_is_refused():
         build_year(record("2023-03-01", "2023-03-20"), step_s=3600, tz=SITE_TZ)
 
 
+def test_one_week_with_twelve_bills_builds_the_year_to_the_bills():
+    # With a bill for every month, a week (weekdays and a weekend) gives the shape of the days and the bills the
+    # energy: every month but the measured one is filled and scaled to its bill (method step 5).
+    full = record("2023-01-01", "2024-01-01")
+    bills = monthly_kwh(full)
+    week = record("2023-03-06", "2023-03-13")
+    year, report = build_year(week, step_s=3600, tz=SITE_TZ, monthly_kwh=list(bills))
+    got = (year * 1.0 / 1000.0).groupby(year.index.month).sum().to_numpy()
+    others = [m for m in range(12) if m != 2]
+    np.testing.assert_allclose(got[others], bills[others], rtol=1e-9)
+    assert report.measured_days == 7
+    with pytest.raises(InputError, match="at least 21 days"):  # without bills a week is still too short
+        build_year(week, step_s=3600, tz=SITE_TZ)
+    with pytest.raises(InputError, match="one week"):  # and with bills, fewer than seven days are not enough
+        build_year(record("2023-03-06", "2023-03-10"), step_s=3600, tz=SITE_TZ, monthly_kwh=list(bills))
+
+
 def test_bad_bills_are_refused():
     measured = record("2023-03-01", "2023-04-01")
     with pytest.raises(InputError, match="12"):

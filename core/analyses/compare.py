@@ -230,20 +230,29 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
     energy = ranked[0]
     de = results[energy].delta
     none_pass = all(k in blocked for k in others)
-    head = ("No option passes as it stands (each leaks into the grid or fails a design check; see below). "
-            "On energy, before any fix, " if none_pass else "On energy, ")
-    head += (f"{OPTION_LABELS[energy]} wins: the loads get {de['to_loads_added_kwh']:.0f} kWh a year more "
-             "from PV")
+
+    def set_aside(k: str) -> str:
+        """Why an option was set aside, in the words of the options table and the design checks."""
+        why = []
+        if k in leaking:
+            why.append(f"Uncontrolled export {results[k].delta['exported_uncontrolled_kwh']:,.0f} kWh/yr, which "
+                       "a zero-export connection forbids")
+        why += [f"FAIL {c.subject or c.id} ({c.id})" for c in failing[k]]
+        return (f"{OPTION_LABELS[k]}: More to the loads from PV {gain(k):+,.0f} kWh/yr, but "
+                + "; ".join(why))
+
+    # The head names every option it set aside and why, so that it never contradicts the table beside it.
+    head = ("No option passes as it stands — " + ". ".join(set_aside(k) for k in blocked)
+            + ". On energy, before any fix, " if none_pass else "On energy, ")
+    head += f"{OPTION_LABELS[energy]} wins: More to the loads from PV {de['to_loads_added_kwh']:+,.0f} kWh/yr"
     if len(ranked) > 1:
         runner = ranked[1]
         diff = gain(energy) - gain(runner)
         head += (f", {diff:.0f} kWh more than {OPTION_LABELS[runner]}" if diff > TIE_KWH
                  else f", about the same as {OPTION_LABELS[runner]}")
+    if blocked and not none_pass:
+        head += ". Set aside — " + ". ".join(set_aside(k) for k in blocked)
     reasons.insert(0, head + ".")
-    better_but_blocked = [k for k in blocked if gain(k) > gain(energy) + TIE_KWH and energy not in blocked]
-    for k in reversed(better_but_blocked):
-        why_not = "without uncontrolled export" if k in leaking else "passing its design checks"
-        reasons.insert(1, f"{OPTION_LABELS[k]} would give the loads {gain(k):.0f} kWh, but not {why_not}.")
     # why: the conversion chains, and how much AC-coupled output was used as it was made
     ac_allowed = [k for k in allowed if k.startswith("ac_") and k not in leaking]
     if chains.ac_direct is not None and chains.dc_direct is not None:

@@ -30,17 +30,38 @@ def _scale(colours: dict[str, str], present) -> alt.Scale:
     return alt.Scale(domain=domain, range=[colours[k] for k in domain])
 
 
+def option_scale(frame: pd.DataFrame, key: str = "option", label: str = "label") -> alt.Scale:
+    """Colours of the options named in ``frame[label]``, looked up by their option key in ``frame[key]``
+    (:data:`core.present.figures.OPTION_COLOURS`), so that a label's wording never changes its colour."""
+    pairs = dict(zip(frame[label], frame[key], strict=False))
+    return alt.Scale(domain=list(pairs), range=[palette.OPTION_COLOURS.get(str(k), palette.GREY)
+                                                for k in pairs.values()])
+
+
 def pv_destinations_chart(frame: pd.DataFrame) -> alt.Chart:
-    """Stacked monthly bars of where the PV energy goes (kWh): frame from ``pv_destinations_by_month``."""
+    """Stacked monthly bars of where the PV energy goes (kWh): frame from ``pv_destinations_by_month``, or from
+    ``pv_destinations_by_system``, whose systems stand side by side in each month (the first one paler)."""
+    systems = list(dict.fromkeys(frame["system"])) if "system" in frame else []
+    tooltip = [alt.Tooltip("month_name:N", title="Month"), alt.Tooltip("destination:N", title="Destination"),
+               alt.Tooltip("kwh:Q", title="Energy (kWh)", format=",.0f")]
+    extra = {}
+    subtitle = "energy per month (kWh)"
+    if len(systems) > 1:
+        tooltip.insert(0, alt.Tooltip("system:N", title="System"))
+        extra = {"xOffset": alt.XOffset("system:N", sort=systems),
+                 "opacity": alt.Opacity("system:N", sort=systems, legend=None,
+                                        scale=alt.Scale(domain=systems,
+                                                        range=[0.45, *[1.0] * (len(systems) - 1)]))}
+        subtitle = (f"energy per month (kWh); in each month the pale bar is the {systems[0].lower()}, then "
+                    + ", ".join(s[:1].lower() + s[1:] for s in systems[1:]))
     return alt.Chart(frame, title=alt.Title("Where the PV energy goes, month by month",
-                                            subtitle="energy per month (kWh)")).mark_bar().encode(
+                                            subtitle=subtitle)).mark_bar().encode(
         x=alt.X("month_name:N", sort=list(MONTH_NAMES), title="Month", axis=alt.Axis(labelAngle=0)),
         y=alt.Y("sum(kwh):Q", title="Energy (kWh)", stack="zero"),
         color=alt.Color("destination:N", scale=_scale(palette.DESTINATION_COLOURS, frame["destination"]),
                         legend=_legend("Destination")),
         order=alt.Order("order:Q", sort="ascending"),
-        tooltip=[alt.Tooltip("month_name:N", title="Month"), alt.Tooltip("destination:N", title="Destination"),
-                 alt.Tooltip("kwh:Q", title="Energy (kWh)", format=",.0f")],
+        tooltip=tooltip, **extra,
     ).properties(width=WIDTH, height=HEIGHT)
 
 
@@ -60,7 +81,7 @@ def typical_day_chart(frame: pd.DataFrame, month_name: str) -> alt.LayerChart:
     colours = _scale(palette.SERIES_COLOURS, frame["series"])
     x = alt.X("hour:Q", title="Time of day (h, local standard time)", scale=alt.Scale(domain=[0, 24]),
               axis=alt.Axis(values=list(range(0, 25, 3))))
-    dashed = ["Daytime base load", "Battery SOC"]
+    dashed = ["Daytime base load", "Battery SOC", "What the panels could make"]
     lines = alt.Chart(power).mark_line(interpolate="step-after", strokeWidth=2).encode(
         x=x, y=alt.Y("value:Q", title="Power (W)"),
         color=alt.Color("series:N", scale=colours, legend=_legend("Series", columns=3)),
@@ -111,38 +132,45 @@ def surplus_duration_chart(frame: pd.DataFrame) -> alt.LayerChart:
     top = float(frame["hours"].max()) if len(frame) else 1.0
     x = alt.X("hours:Q", title="Daylight hours of the year (h), highest surplus first",
               scale=alt.Scale(domain=[0, top], nice=False))
-    above = frame.assign(surplus_w=frame["surplus_w"].clip(lower=0.0))
-    shade = alt.Chart(above).mark_area(color=palette.ORANGE, opacity=0.35).encode(x=x, y="surplus_w:Q")
-    # the question is the surplus: show all of it, and enough of the deficit to see where it turns
+    # the question is the surplus: show all of it, and enough of the deficit to see where it turns; the curve
+    # stops where it leaves the axis (a line held at the axis edge would look like data) and the subtitle says so
     high = float(frame["surplus_w"].max()) if len(frame) else 0.0
-    low = max(float(frame["surplus_w"].min()) if len(frame) else 0.0, -max(2.0 * max(high, 0.0), 500.0))
-    curve = alt.Chart(frame).mark_line(color=palette.ORANGE, strokeWidth=2, clip=True).encode(
-        x=x, y=alt.Y("surplus_w:Q", title="AC-coupled output − load (W)",
-                     scale=alt.Scale(domain=[low, max(high, 1.0)], clamp=True)),
-        tooltip=[alt.Tooltip("hours:Q", title="Hours", format=",.0f"),
-                 alt.Tooltip("surplus_w:Q", title="Output − load (W)", format=",.0f")])
+    lowest = float(frame["surplus_w"].min()) if len(frame) else 0.0
+    low = max(lowest, -max(2.0 * max(high, 0.0), 500.0))
+    shown = frame[frame["surplus_w"] >= low]
+    y = alt.Y("surplus_w:Q", title="AC-coupled output − load (W)", scale=alt.Scale(domain=[low, max(high, 1.0)]))
+    above = shown.assign(surplus_w=shown["surplus_w"].clip(lower=0.0))
+    shade = alt.Chart(above).mark_area(color=palette.ORANGE, opacity=0.35).encode(x=x, y=y)
+    curve = alt.Chart(shown).mark_line(color=palette.ORANGE, strokeWidth=2).encode(
+        x=x, y=y, tooltip=[alt.Tooltip("hours:Q", title="Hours", format=",.0f"),
+                           alt.Tooltip("surplus_w:Q", title="Output − load (W)", format=",.0f")])
     zero = alt.Chart(pd.DataFrame({"y": [0.0]})).mark_rule(color=palette.BLACK).encode(y="y:Q")
+    subtitle = ["shaded: surplus that must go into the battery, be curtailed or leave the site (W)"]
+    if lowest < low:
+        cut = float(frame["hours"][frame["surplus_w"] < low].min())
+        subtitle.append(f"the curve goes on below {low:,.0f} W from hour {cut:,.0f} on (not drawn: the loads "
+                        f"take more than the output, down to {lowest:,.0f} W)")
     return alt.layer(shade, curve, zero, title=alt.Title(
-        "How many daylight hours does the AC-coupled output exceed the load?",
-        subtitle="shaded: surplus that must go into the battery, be curtailed or leave the site (W)")
+        "How many daylight hours does the AC-coupled output exceed the load?", subtitle=subtitle)
     ).properties(width=WIDTH, height=HEIGHT)
 
 
 def options_chart(frame: pd.DataFrame) -> alt.Chart:
     """Grouped bars of each option's change against the existing system (kWh/yr).
 
-    ``frame`` columns: ``option`` (label), ``figure`` (label) and ``kwh``.
+    ``frame`` columns: ``option`` (key, for the colour), ``label`` (the option in words), ``figure`` (label) and
+    ``kwh``.
     """
-    options = list(dict.fromkeys(frame["option"]))
+    options = list(dict.fromkeys(frame["label"]))
     return alt.Chart(frame, title=alt.Title("The options side by side",
                                             subtitle="change against the existing system (kWh per year)")).mark_bar(
     ).encode(
         x=alt.X("figure:N", title=None, sort=list(dict.fromkeys(frame["figure"])),
                 axis=alt.Axis(labelAngle=0, labelLimit=160)),
-        xOffset=alt.XOffset("option:N", sort=options),
+        xOffset=alt.XOffset("label:N", sort=options),
         y=alt.Y("kwh:Q", title="Change (kWh/yr)"),
-        color=alt.Color("option:N", scale=_scale(palette.OPTION_COLOURS, options), legend=_legend("Option")),
-        tooltip=[alt.Tooltip("option:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
+        color=alt.Color("label:N", scale=option_scale(frame), legend=_legend("Option")),
+        tooltip=[alt.Tooltip("label:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
                  alt.Tooltip("kwh:Q", title="Change (kWh/yr)", format=",.0f")],
     ).properties(width=WIDTH, height=HEIGHT)
 

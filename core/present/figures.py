@@ -41,15 +41,18 @@ SERIES_COLOURS = {
     "Daytime base load": GREY,
     "AC-coupled PV output": ORANGE,
     "DC-coupled PV output": BLUE,
+    "What the panels could make": SKY_BLUE,
+    "Curtailed or clipped": VERMILLION,
     "Battery SOC": BLUISH_GREEN,
 }
 
-#: The expansion options.
+#: The expansion options, keyed by option (``core.analyses.options.OPTIONS``), never by their label: one mapping
+#: for every chart that tells the options apart.
 OPTION_COLOURS = {
-    "Existing system": GREY,
-    "AC-coupled, backed-up side": ORANGE,
-    "AC-coupled, grid side": VERMILLION,
-    "DC-coupled": BLUE,
+    "baseline": GREY,
+    "ac_backed_up": ORANGE,
+    "ac_grid": VERMILLION,
+    "dc": BLUE,
 }
 
 #: Check outcomes.
@@ -95,6 +98,13 @@ def pv_destinations_by_month(months: list[dict]) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["month", "month_name", "destination", "order", "kwh"])
 
 
+def pv_destinations_by_system(months: dict[str, list[dict]]) -> pd.DataFrame:
+    """:func:`pv_destinations_by_month` of several systems (for example the existing one and one with the new
+    panels), with their names in a ``system`` column, in the order given."""
+    parts = [pv_destinations_by_month(m).assign(system=name) for name, m in months.items()]
+    return pd.concat(parts, ignore_index=True)
+
+
 def _hour_of_day(index: pd.DatetimeIndex) -> np.ndarray:
     return index.hour.to_numpy() + index.minute.to_numpy() / 60.0
 
@@ -102,6 +112,10 @@ def _hour_of_day(index: pd.DatetimeIndex) -> np.ndarray:
 def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
                 base_load_w: float | None = None) -> pd.DataFrame:
     """Mean powers by time of day over one month, and the mean battery SOC.
+
+    Series: backed-up loads, all loads, AC-coupled and DC-coupled PV output, what all the panels could make (their
+    module-side potential) and the part of it curtailed or clipped (when the steps carry them), the month's daytime
+    base load (a constant, when given) and the battery SOC (when there is a battery).
 
     Parameters
     ----------
@@ -129,6 +143,11 @@ def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
         "AC-coupled PV output": (part["ac_backed_out_w"] + part["ac_grid_out_w"]).to_numpy(),
         "DC-coupled PV output": part["dc_out_w"].to_numpy(),
     })
+    if "pv_potential_dc_w" in part:
+        frame["What the panels could make"] = (part["pv_potential_dc_w"] + part["pv_potential_ac_w"]).to_numpy()
+        lost = [c for c in ("curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w", "clipped_dc_w", "clipped_ac_w")
+                if c in part]
+        frame["Curtailed or clipped"] = part[lost].sum(axis=1).to_numpy()
     if usable_wh > 0:
         frame["Battery SOC"] = part["soc_wh"].to_numpy() / usable_wh * 100.0
     means = frame.groupby("hour").mean()

@@ -13,8 +13,8 @@ from core.present.figures import (
     fmt_w,
     surplus_by_month_hour,
 )
-from explorer import charts
-from explorer.derived import reference_label, reference_loads_w
+from core.present.reference_loads import reference_label, reference_loads_w
+from explorer import caching, charts
 
 
 def answer(frame, duration, dt_h: float, daylight_hours: float) -> str:
@@ -37,7 +37,9 @@ def answer(frame, duration, dt_h: float, daylight_hours: float) -> str:
             "battery, be curtailed, or leave the site.")
 
 
-def render(sim, option: str, base_load_w: list[float]) -> None:
+def render(m) -> None:
+    sim, option = m.sim, m.option
+    base_load_w = caching.daytime_base_load(m.option_scenario, option)
     sc, site = sim.scenario, sim.site
     loads = reference_loads_w(sc, site, option)
     frame = surplus_by_month_hour(sim.steps, base_load_w, loads_w=loads)

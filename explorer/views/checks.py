@@ -6,7 +6,9 @@ import html
 
 import streamlit as st
 
+from core.present.cautions import distinct_cautions
 from core.present.figures import STATUS_COLOURS
+from core.present.safety import SAFETY_CAUTIONS
 
 _WORD = {"pass": "PASS", "warn": "WARN", "fail": "FAIL"}
 _ORDER = {"fail": 0, "warn": 1, "pass": 2}
@@ -29,9 +31,32 @@ def line(c) -> str:
             f"<span style='color:#666;font-size:0.85em'>Source: {html.escape(c.source)}</span>")
 
 
-def render(checks) -> None:
+def render(m) -> None:
+    """Two groups, each flagged first: what the new panels change or add, and the existing system as it is."""
+    st.markdown(f"**With the new panels** ({m.label}, {m.count} panel{'s' if m.count != 1 else ''}): the checks "
+                "they add or whose outcome they change")
+    if m.count > 0 and not m.changed_checks:
+        st.caption("The new panels change no check's outcome.")
+    elif m.changed_checks:
+        group(m.changed_checks)
+    else:
+        st.caption("No panels are added.")
+    st.markdown("**The existing system as it is**")
+    group(m.existing_checks, empty="No design checks apply to the existing system.")
+    # the cautions of every flagged check, each clause once and none the safety notes below already say
+    flagged = [c.caution for c in (*m.changed_checks, *m.existing_checks) if c.status != "pass" and c.caution]
+    if flagged:
+        st.markdown("**Cautions that come with the flagged checks**")
+        new = distinct_cautions(flagged, already=SAFETY_CAUTIONS)
+        if new:
+            st.warning("\n".join(f"- {s}" for s in new) + "\n\nAnd the safety notes at the foot of the page.")
+        else:
+            st.caption("They are among the safety notes at the foot of the page.")
+
+
+def group(checks, empty: str = "No design checks apply to this setting.") -> None:
     if not checks:
-        st.info("No design checks apply to this setting.")
+        st.info(empty)
         return
     ordered = sorted(checks, key=lambda c: _ORDER.get(c.status, 3))
     counts = {s: sum(c.status == s for c in checks) for s in ("fail", "warn", "pass")}
@@ -41,13 +66,8 @@ def render(checks) -> None:
     for c in flagged:
         st.markdown(line(c), unsafe_allow_html=True)
     if not flagged:
-        st.success("Every check passes for this setting.")
+        st.success("Every check here passes.")
     if passed:
         with st.expander(f"Passed checks ({len(passed)})"):
             for c in passed:
                 st.markdown(line(c), unsafe_allow_html=True)
-    cautions = list(dict.fromkeys(c.caution for c in flagged if c.caution))
-    if cautions:
-        st.markdown("**Cautions that come with the flagged checks**")
-        for text in cautions:
-            st.warning(text)

@@ -6,7 +6,7 @@ import numpy as np
 import streamlit as st
 
 from core.present.figures import MONTH_FULL_NAMES, fmt_w, typical_day
-from explorer import charts
+from explorer import caching, charts
 
 
 def sunniest_month(sim) -> int:
@@ -16,7 +16,9 @@ def sunniest_month(sim) -> int:
     return int(out.idxmax()) if len(out) and out.max() > 0 else 6
 
 
-def render(sim, base_load_w: list[float]) -> None:
+def render(m) -> None:
+    sim = m.sim
+    base_load_w = caching.daytime_base_load(m.option_scenario, m.option)
     if st.session_state.get("day_month") not in range(1, 13):
         st.session_state["day_month"] = sunniest_month(sim)
     month = st.select_slider("Month", options=list(range(1, 13)), format_func=lambda m: MONTH_FULL_NAMES[m - 1],

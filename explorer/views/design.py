@@ -7,7 +7,7 @@ import streamlit as st
 
 from core.analyses.design import search
 from core.analyses.design.report import design_frame
-from explorer import charts, charts_design
+from explorer import caching, charts, charts_design
 
 #: The what-if controls' session keys (explorer.views.controls) that a loaded design sets.
 _COUPLING = {"backed_up": "ac_backed_up", "grid": "ac_grid"}
@@ -47,7 +47,9 @@ def report_summary(sc) -> dict | None:
     return search_summary(stored["result"])
 
 
-def render(sc, caching) -> None:
+def render(m) -> None:
+    """The view of the page model ``m``: the search runs on the scenario of the controls, on a button."""
+    sc = m.scenario
     if sc.design is None and sc.expansion is None:
         st.info("Add [[faces]] and a [design] section (or an [expansion]) to the scenario to search its designs.")
         return

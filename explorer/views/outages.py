@@ -8,7 +8,8 @@ from core.present.figures import fmt_hours, fmt_kwh, fmt_pct, outage_events
 from explorer import charts
 
 
-def render(sim, baseline) -> None:
+def render(m) -> None:
+    sim, baseline = m.sim, m.baseline
     usable_wh = sim.scenario.battery.usable_kwh * 1000.0 if sim.scenario.battery else 0.0
     events = outage_events(sim.steps, sim.site.dt_h, usable_wh)
     h, e = sim.results.hours, sim.results.energy_kwh

@@ -2,14 +2,55 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import streamlit as st
 
 from core.present.report import steps_csv_text
-from explorer import state
+from core.present.report_html import report_html
+from explorer import caching, state
+from explorer.views import compare, design
+from explorer.views.controls import compass
 
 
-def render(sc, option: str, sim, make_report) -> None:
-    """``make_report`` returns the HTML text; it runs only when the report is downloaded."""
+def settings_list(m) -> list[tuple[str, str]]:
+    """The what-if settings in words, for the report (read back from the scenario the page simulated)."""
+    sc, lay, e = m.scenario, m.comparison.layout, m.scenario.expansion
+    rows = [("Coupling of the new panels", m.label)]
+    if e is not None:
+        rows += [("Panels added", f"{lay.count} × {e.module} ({sc.modules[e.module].pmax_w:,.0f} W STC)"),
+                 ("Tilt / azimuth", f"{lay.tilt_deg:.0f}° / {lay.azimuth_deg:.0f}° ({compass(lay.azimuth_deg)})")]
+        if m.option != "dc" and e.microinverter:
+            rows.append(("Microinverter", e.microinverter))
+    if sc.battery is not None:
+        rows += [("Battery usable capacity", f"{sc.battery.usable_kwh:,.1f} kWh"),
+                 ("Outage reserve / floor", f"{sc.battery.reserve_pct:.0f} % / {sc.battery.floor_pct:.0f} %")]
+    g = sc.grid
+    export = f"allowed up to {g.export_limit_w:,.0f} W" if g.export_allowed else "zero export"
+    r = g.random_outages
+    outages = ("Random outages: " + f"{r.per_year:g} per year, mean {r.mean_hours:g} h" if r is not None
+               else "as in the scenario file" if g.outages_path else "none")
+    rows += [("Standing draw", f"{g.standing_draw_w:,.0f} W"),
+             ("Export", f"{export}; limiter on the microinverters: "
+                        f"{'yes' if g.ac_export_control == 'limiter' else 'no'}"),
+             ("Outages", outages)]
+    return rows
+
+
+def report_text(m) -> str:
+    """The HTML report of the page's setting: the existing system's checks are named as such."""
+    existing = [dataclasses.replace(c, subject=f"{c.subject or c.id} (existing system)") for c in m.existing_checks]
+    return report_html(m.sim, m.baseline, option_label=m.label, headline=m.headline, more=m.more,
+                       month=st.session_state.get("day_month"),
+                       base_load_w=caching.daytime_base_load(m.option_scenario, m.option),
+                       options=compare.options_table(m.comparison) if len(m.comparison.options) > 1 else None,
+                       verdict=m.comparison.verdict.text, checks=[*m.changed_checks, *existing],
+                       settings=settings_list(m), designs=design.report_summary(m.scenario))
+
+
+def render(m) -> None:
+    """The report is built only when it is downloaded."""
+    sc, option, sim = m.scenario, m.option, m.sim
     st.markdown("#### Scenario file")
     text = state.scenario_download(sc, option)
     st.session_state["scenario_download"] = text
@@ -23,12 +64,12 @@ def render(sc, option: str, sim, make_report) -> None:
     st.markdown("#### Report")
     c1, c2 = st.columns(2)
     with c1:
-        st.download_button("Download the report (HTML)", make_report, file_name=state.download_name(sc, ".html"),
-                           mime="text/html", key="dl_report", on_click="ignore")
+        st.download_button("Download the report (HTML)", lambda: report_text(m),
+                           file_name=state.download_name(sc, ".html"), mime="text/html", key="dl_report",
+                           on_click="ignore")
         st.caption("One file with the figures, charts, design checks and safety cautions; opens offline.")
     with c2:
         st.download_button("Download the step-by-step results (CSV)", lambda: steps_csv_text(sim),
                            file_name=state.download_name(sc, "_steps.csv"), mime="text/csv", key="dl_steps",
                            on_click="ignore")
         st.caption("Every step's flows in W (SOC in Wh), interval starts in local standard time.")
-

@@ -5,8 +5,9 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from core.analyses.options import OPTION_LABELS, layout_of
+from core.analyses.options import OPTION_LABELS
 from core.analyses.resolution import resolution_check
+from explorer import caching
 
 
 def table(result) -> pd.DataFrame:
@@ -25,9 +26,12 @@ def table(result) -> pd.DataFrame:
     return out
 
 
-def render(sc, option: str) -> None:
+def render(m) -> None:
+    sc, option = m.scenario, m.option
     st.markdown("**What would an hourly model hide?**")
-    key = ("resolution", option, layout_of(sc), sc.load.path, sc.load.grid_only_path)
+    # every setting counts (battery, grid, outages, files…), not just the layout: a table is shown only for the
+    # setting it was simulated for
+    key = caching.comparison_key(sc) + option
     stored = st.session_state.get("resolution_result")
     if st.button("Simulate at the load's own step and hourly", key="resolution_run"):
         with st.spinner("Simulating the year twice…"):
@@ -36,6 +40,8 @@ def render(sc, option: str) -> None:
     if not stored or stored["key"] != key:
         st.caption(f"{OPTION_LABELS[option]}: short AC-coupled surpluses average out within an hour, so an hourly "
                    "model can miss export and curtailment that a finer load record shows.")
+        if stored:
+            st.info("The settings changed since the last comparison: press the button to simulate this setting.")
         return
     result = stored["result"]
     if not result.applicable:

@@ -22,8 +22,30 @@ class Source:
     option_hint: str | None = None
 
 
+def _stamp(paths) -> tuple:
+    """Names, sizes and modification times: a changed file on disk is read again."""
+    out = []
+    for p in sorted(paths):
+        try:
+            s = p.stat()
+            out.append((str(p), s.st_size, s.st_mtime_ns))
+        except OSError:
+            out.append((str(p), None, None))
+    return tuple(out)
+
+
+@st.cache_data(max_entries=4, show_spinner=False)
+def _sample_sites(root: str, stamp: tuple) -> dict[str, Path]:
+    return state.sample_sites(Path(root))
+
+
+@st.cache_resource(max_entries=16, show_spinner=False)
+def _load(path: str, stamp: tuple) -> Scenario:
+    return load_scenario(path)
+
+
 def _sample_choices(root: Path, env_path: str | None) -> tuple[dict[str, Path], str | None]:
-    sites = state.sample_sites(root)
+    sites = _sample_sites(str(root), _stamp(Path(root).glob("*/scenario.toml")))
     default = None
     if env_path:
         wanted = Path(env_path).resolve()
@@ -51,7 +73,7 @@ def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | No
                             key="sample_site", help="every folder under sample_sites/ that holds a scenario.toml")
         path = sites[name]
         try:
-            sc = load_scenario(path)
+            sc = _load(str(path), _stamp([path]))
         except InputError as exc:
             st.error(str(exc))
             return None

@@ -9,7 +9,7 @@ import streamlit as st
 from core.analyses.options import OPTION_LABELS
 from core.analyses.sweep import sweep
 from core.present.figures import fmt_kwh
-from explorer import charts, state
+from explorer import caching, charts, state
 
 #: A cell is marked "C" when the added curtailment and clipping exceed this share of the new panels' potential
 #: (a quarter: our own choice, to mark where the new panels mostly displace other PV), "X" when any uncontrolled
@@ -44,23 +44,26 @@ def heat_frame(table: pd.DataFrame, axis: str) -> pd.DataFrame:
     return out
 
 
-def render(sc, c: state.Controls, caching) -> None:
-    if sc.expansion is None or c.option not in state.couplings(sc):
+def render(m) -> None:
+    sc, option, lay = m.scenario, m.option, m.comparison.layout
+    if sc.expansion is None or option not in state.couplings(sc):
         st.info("The scenario's [expansion] allows no option to sweep.")
         return
+    count_max = state.panel_count_max(sc)
+    if not 1 <= st.session_state.get("sweep_top", 0) <= count_max:
+        st.session_state["sweep_top"] = min(count_max, max(2 * lay.count, 6))
     left, mid, right = st.columns([2, 2, 1.3], vertical_alignment="bottom")
     axis = left.radio("Across", ["azimuth_deg", "tilt_deg"], horizontal=True, key="sweep_axis",
                       format_func={"azimuth_deg": "azimuth (90° east … 270° west)",
                                    "tilt_deg": "tilt (0° … 90°)"}.get)
-    top = mid.slider("Panel counts up to", 1, state.panel_count_max(sc), value=min(state.panel_count_max(sc),
-                     max(2 * c.count, 6)), key="sweep_top")
+    top = mid.slider("Panel counts up to", 1, count_max, key="sweep_top")
     counts = list(range(0, top + 1))
     values = AZIMUTHS if axis == "azimuth_deg" else TILTS
-    fixed = (f"tilt {c.tilt_deg:.0f}°" if axis == "azimuth_deg" else f"azimuth {c.azimuth_deg:.0f}°")
-    key = caching.site_key(sc) + repr((c.option, axis, counts, c.tilt_deg, c.azimuth_deg, sc.battery, sc.grid,
+    fixed = (f"tilt {lay.tilt_deg:.0f}°" if axis == "azimuth_deg" else f"azimuth {lay.azimuth_deg:.0f}°")
+    key = caching.site_key(sc) + repr((option, axis, counts, lay.tilt_deg, lay.azimuth_deg, sc.battery, sc.grid,
                                        sc.expansion))
     run = right.button("Run the sweep", type="primary", key="sweep_run")
-    st.caption(f"{OPTION_LABELS[c.option]} (the sidebar's coupling), {fixed} fixed, {len(counts)} counts × "
+    st.caption(f"{OPTION_LABELS[option]} (the sidebar's coupling), {fixed} fixed, {len(counts)} counts × "
                f"{len(values)} {'azimuths' if axis == 'azimuth_deg' else 'tilts'} = {len(counts) * len(values)} "
                "simulated years.")
     stored = st.session_state.get("sweep_result")
@@ -70,7 +73,7 @@ def render(sc, c: state.Controls, caching) -> None:
         def progress(fraction: float, message: str) -> None:
             bar.progress(min(max(fraction, 0.0), 1.0), text=f"Sweep: {message}")
 
-        kwargs = {"counts": counts, "options": [c.option], "site": caching.site_data(sc),
+        kwargs = {"counts": counts, "options": [option], "site": caching.site_data(sc),
                   "cache": caching.orientation_cache(sc), "progress": progress}
         kwargs["azimuths" if axis == "azimuth_deg" else "tilts"] = list(values)
         table = sweep(sc, **kwargs)
@@ -85,7 +88,7 @@ def render(sc, c: state.Controls, caching) -> None:
     table, axis = stored["table"], stored["axis"]
     title = "Azimuth (°)" if axis == "azimuth_deg" else "Tilt (°)"
     frame = heat_frame(table, axis)
-    current = {"count": c.count, axis: int(round(c.azimuth_deg if axis == "azimuth_deg" else c.tilt_deg))}
+    current = {"count": lay.count, axis: int(round(lay.azimuth_deg if axis == "azimuth_deg" else lay.tilt_deg))}
     colour = st.radio("Colour by", list(COLOUR_BY), format_func=COLOUR_BY.get, horizontal=True, key="sweep_colour")
     charts.draw(charts.sweep_heatmap(frame, x=axis, x_title=title, value=colour, value_title=COLOUR_BY[colour],
                                      current=current))

@@ -112,34 +112,26 @@ def year(step_s: int, scenario_path: str) -> dict:
 
 def page_update(sc, count: int, site, cache, option: str = "ac_backed_up"):
     """What ``core`` does for the explorer's page when the panel-count slider moves (the page's own caches
-    keep the site and the orientations): every option side by side, the figures and tables the views draw,
-    and the design checks of the chosen option."""
-    from core.analyses.checks import run_checks
+    keep the site and the orientations): every option side by side with their design checks, the page model
+    and the figures and tables the views draw (those of every tab, though the page draws only the shown one)."""
+    import dataclasses
+
     from core.analyses.compare import compare
-    from core.analyses.options import Layout, with_option
-    from core.present.figures import (
-        ac_surplus_duration,
-        headline_figures,
-        outage_events,
-        secondary_figures,
-        surplus_by_month_hour,
-        typical_day,
-    )
+    from core.analyses.options import Layout
+    from core.present.figures import ac_surplus_duration, outage_events, surplus_by_month_hour, typical_day
+    from explorer.page_model import build_page_model
 
     e = sc.expansion
     layout = Layout(count, e.tilt_deg, e.azimuth_deg)
     comparison = compare(sc, layout, site=site, cache=cache)
-    chosen, base = comparison.options[option], comparison.options["baseline"]
-    sim = chosen.simulation
+    model = build_page_model(dataclasses.replace(sc, expansion=dataclasses.replace(e, count=count)), option,
+                             comparison)
+    sim = model.sim
     usable_wh = sc.battery.usable_kwh * 1000.0 if sc.battery else 0.0
-    payback = chosen.economics.simple_payback_years if chosen.economics else None
-    headline_figures(sim.results, base.simulation.results, payback_years=payback)
-    secondary_figures(sim, base.simulation)
     typical_day(sim.steps, 6, usable_wh=usable_wh)
     surplus_by_month_hour(sim.steps)
     ac_surplus_duration(sim.steps, site.daylight, site.dt_h)
     outage_events(sim.steps, site.dt_h, usable_wh)
-    run_checks(with_option(sc, option, layout), sim, cache=cache, option=option)
     return comparison
 
 

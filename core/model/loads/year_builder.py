@@ -30,7 +30,9 @@ Limits
 - Bills are taken as calendar months; real billing periods straddle months.
 - Seasonal loads (heating, cooling) missing from the record are only as good as the nearest measured month
   and the bill scaling; with few measured months and no bills, annual energy can be far off.
-- Fewer than 21 days (three weeks) of data are refused.
+- Fewer than 21 days (three weeks) of data are refused; with a bill for every month, one week (seven days, so
+  that weekdays and a weekend are seen) is enough: the bills then give each month's energy and the record only
+  the shape of its days.
 """
 
 from __future__ import annotations
@@ -51,6 +53,8 @@ from core.model.loads.quality import json_ready
 from core.timebase import NOMINAL_YEAR, nominal_index
 
 MIN_DAYS = 21
+#: The shortest record taken when all twelve monthly totals are given (one week: weekdays and a weekend).
+MIN_DAYS_WITH_BILLS = 7
 MONTH_DAYS = (31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
 MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 _CUM_DAYS = np.concatenate([[0], np.cumsum(MONTH_DAYS)])
@@ -244,11 +248,16 @@ def build_year(measured: pd.Series, *, step_s: int, tz: dt.tzinfo,
     else:
         data_step = step_s
     measured_hours_in = float(finite.sum()) * data_step / 3600.0
-    if measured_hours_in < MIN_DAYS * 24:
+    all_bills = all(b is not None for b in bills)
+    if measured_hours_in < (MIN_DAYS_WITH_BILLS if all_bills else MIN_DAYS) * 24:
+        if all_bills:
+            raise InputError(f"only {measured_hours_in / 24:.1f} days of load data; at least "
+                             f"{MIN_DAYS_WITH_BILLS} days (one week) are needed, even with twelve monthly totals",
+                             where="load", hint="give at least one week of readings")
         raise InputError(f"only {measured_hours_in / 24:.1f} days of load data; at least {MIN_DAYS} days "
                          "(three weeks) are needed to build a year", where="load",
-                         hint="give a longer record, or monthly totals (load.monthly_kwh) with at least three "
-                              "weeks of readings")
+                         hint=f"give a longer record, or all twelve monthly totals (load.monthly_kwh, e.g. from "
+                              f"bills) with at least {MIN_DAYS_WITH_BILLS} days of readings")
     notes: list[str] = []
     local_s = _local_seconds(series.index, tz)
     last_end = int(local_s[finite].max()) + data_step

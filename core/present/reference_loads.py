@@ -1,4 +1,8 @@
-"""Inputs of the base-load view that depend on the option: which loads the AC-coupled output meets first."""
+"""Which loads an option's AC-coupled output meets first, and their daytime base load.
+
+The base-load view (page and report) compares the new panels' AC-coupled output with the loads that take it
+first; which loads those are depends on the option and on where the zero-export controller measures.
+"""
 
 from __future__ import annotations
 
@@ -25,6 +29,7 @@ def reference_loads_w(sc: Scenario, site, option: str) -> pd.Series:
 
 
 def reference_label(sc: Scenario, option: str) -> str:
+    """The loads of :func:`reference_loads_w` in words."""
     if sc.grid.metering == "site":
         return "all loads (the controller meters the whole site)"
     return "grid-only loads" if option == "ac_grid" else "backed-up loads"
