@@ -35,13 +35,13 @@ def modelchain_dc_w(index_utc: pd.DatetimeIndex, step_s: int, ghi_scale: np.ndar
     cs = location.get_clearsky(mid, model="ineichen")
     sun = location.get_solarposition(mid)
     ghi = cs["ghi"].to_numpy() * ghi_scale
-    split = pvlib.irradiance.erbs(ghi, sun["zenith"].to_numpy(), mid.dayofyear.to_numpy())
+    split = pvlib.irradiance.erbs(ghi, sun["zenith"].to_numpy(), mid.day_of_year.to_numpy())
     clear = ghi_scale >= 0.999
     dni = np.where(clear, cs["dni"].to_numpy(), np.nan_to_num(split["dni"]))
     dhi = np.where(clear, cs["dhi"].to_numpy(), np.nan_to_num(split["dhi"]))
     tmy, _ = pvlib.iotools.read_tmy3(str(TMY3), map_variables=True)
     local = mid.tz_convert(TZ)
-    hour_of_year = np.clip((local.dayofyear.to_numpy() - 1) * 24 + local.hour.to_numpy(), 0, 8759)
+    hour_of_year = np.clip((local.day_of_year.to_numpy() - 1) * 24 + local.hour.to_numpy(), 0, 8759)
     weather = pd.DataFrame({"ghi": ghi, "dni": dni, "dhi": dhi,
                             "temp_air": tmy["temp_air"].to_numpy()[hour_of_year],
                             "wind_speed": tmy["wind_speed"].to_numpy()[hour_of_year]}, index=mid)
