@@ -38,6 +38,7 @@ def format_calibration(result: dict[str, Any], name: str) -> str:
     for res in ("monthly", "hourly"):
         lines.append(f"  {res:<7} before: {_score(fit['before'][res])}")
         lines.append(f"  {'':<7} after:  {_score(fit['after'][res])}   [{fit['basis'][res]}]")
-    lines.append("  meets Guideline 14 after the fit: " + ("yes" if fit["meets_guideline_14"] else "no"))
+    lines.append("  meets Guideline 14 after the fit: " + ("yes" if fit["meets_guideline_14"] else "no")
+                 + f" (judged on: {', '.join(fit['judged_on'])})")
     lines += [f"Note: {n}" for n in result["notes"]]
     return "\n".join(lines)
