@@ -55,7 +55,10 @@ def weather(index_utc: pd.DatetimeIndex, rng: np.random.Generator) -> pd.DataFra
 def array_dc_w(w: pd.DataFrame) -> np.ndarray:
     """The south roof through pvlib's ModelChain, without losses (W)."""
     system = pvlib.pvsystem.PVSystem(
-        surface_tilt=TILT, surface_azimuth=AZIMUTH, module_parameters={"pdc0": PDC0_W, "gamma_pdc": -0.0034},
+        surface_tilt=TILT, surface_azimuth=AZIMUTH,
+        # Diffuse light weighed by Marion's sky-dome integral of the physical IAM (pvlib.iam.marion_diffuse).
+        module_parameters={"pdc0": PDC0_W, "gamma_pdc": -0.0034,
+                           "FD": float(pvlib.iam.marion_diffuse("physical", TILT)["sky"])},
         temperature_model_parameters=pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"]["close_mount_glass_glass"],
         inverter_parameters={"pdc0": 10 * PDC0_W})
     mc = pvlib.modelchain.ModelChain(system, pvlib.location.Location(LAT, LON, altitude=ALT), aoi_model="physical",

@@ -41,7 +41,8 @@ def site_with(folder: Path, frame: pd.DataFrame | None, *, pv: str = '"pv_kwh"',
     if text is not None:
         (folder / "monitoring.csv").write_text(text)
     scenario = folder / "scenario.toml"
-    scenario.write_text((SITE / "scenario.toml").read_text() + MEASURED.format(pv=pv))
+    own = (SITE / "scenario.toml").read_text().split("\n[measured]")[0]  # the sample's own export is replaced
+    scenario.write_text(own + MEASURED.format(pv=pv))
     return scenario
 
 
@@ -165,3 +166,18 @@ def test_one_column_per_array(tmp_path):
     cal = calibrate(load_scenario(site_with(tmp_path, truth.frame, pv='{ "south roof" = "pv_kwh" }')))
     assert abs(cal.losses["south roof"].value - 8.0) <= 1.5
     assert np.isfinite(cal.losses["south roof"].uncertainty)
+
+
+def test_hour_by_hour_with_the_periods_weather(tmp_path):
+    # A cloudy record (a fifth of the days clear) with a year of its own weather as measured.weather_path: every
+    # screened daytime hour counts, not only clear days, and Guideline 14 is judged monthly and hourly.
+    truth = make_record("2023-05-01", 30, losses_pct=16.0, standing_draw_w=40.0, seed=21, clear_share=0.2,
+                        weather_csv=tmp_path / "period_weather.csv")
+    scenario = site_with(tmp_path, truth.frame)
+    scenario.write_text(scenario.read_text() + 'weather_path = "period_weather.csv"\n')
+    cal = calibrate(load_scenario(scenario))
+    out = cal.to_dict()
+    assert abs(out["fitted"]["arrays"]["south roof"]["losses_pct"] - truth.losses_pct) <= 1.5
+    assert out["fit"]["judged_on"] == ["monthly", "hourly"]
+    assert abs(out["fit"]["after"]["hourly"]["nmbe_pct"]) < abs(out["fit"]["before"]["hourly"]["nmbe_pct"])
+    assert out["fit"]["meets_guideline_14"]
