@@ -181,3 +181,13 @@ def test_hour_by_hour_with_the_periods_weather(tmp_path):
     assert out["fit"]["judged_on"] == ["monthly", "hourly"]
     assert abs(out["fit"]["after"]["hourly"]["nmbe_pct"]) < abs(out["fit"]["before"]["hourly"]["nmbe_pct"])
     assert out["fit"]["meets_guideline_14"]
+
+
+def test_daily_totals_are_refused_with_the_reason(tmp_path):
+    # Daily totals cannot show clear-sky hours or curtailed afternoons, which the screening and the fit rest on.
+    days = pd.date_range("2023-05-01", periods=40, freq="D")
+    text = "date,pv_kwh\n" + "".join(f"{d:%Y-%m-%d},{9.5 + (i % 3):.1f}\n" for i, d in enumerate(days))
+    scenario = site_with(tmp_path, None, text=text)
+    scenario.write_text(scenario.read_text().replace('grid_import = "grid_kwh"\nload = "load_kwh"\nsoc = "soc_pct"\n',
+                                                     ""))
+    _refused(scenario, contains="an hour apart or finer")

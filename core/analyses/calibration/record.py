@@ -61,9 +61,12 @@ class MonitoringRecord:
 def check_time_order(path: Path, file: str, timezone: str | None) -> None:
     """Refuse a file whose rows step back in time (naming the first such row); daylight saving is not a step
     back, because the timestamps are compared in UTC."""
-    table = find_table(read_text(path).text, file)
-    columns = find_time_columns(table.rows, table.names, file)
-    times = parse_times(table.rows, columns, timezone, file)
+    try:
+        table = find_table(read_text(path).text, file)
+        columns = find_time_columns(table.rows, table.names, file)
+        times = parse_times(table.rows, columns, timezone, file)
+    except InputError as exc:
+        raise _in_our_words(exc, "path", file) from exc
     t = times.utc_s
     ok = np.flatnonzero(np.isfinite(t))
     back = np.flatnonzero(np.diff(t[ok]) < 0)
@@ -74,12 +77,27 @@ def check_time_order(path: Path, file: str, timezone: str | None) -> None:
                                                   "sort the rows by time if the file was joined from parts")
 
 
+#: What a calibration needs from the export's timing (daily or coarser records cannot show clear-sky hours or
+#: curtailed afternoons, which the screening and the fit rest on).
+COARSE_HINT = ("a calibration needs readings with a time of day, an hour apart or finer; export the record at "
+               "its logging interval (1 to 60 minutes) rather than daily totals")
+
+
+def _in_our_words(exc: InputError, key: str, file: str, where: str | None = None) -> InputError:
+    """The importer's message with the [measured] keys named instead of the [load] ones."""
+    message = exc.message.replace("load data need", "a calibration needs").replace("load.column", f"measured.{key}")
+    hint = (exc.hint or "").replace("load.column", f"measured.{key}") or None
+    if "monthly_kwh" in (exc.hint or "") + exc.message:  # the importer's way out for coarse data is not ours
+        hint = COARSE_HINT
+    return InputError(message, file=exc.file or file, where=where or exc.where, hint=hint)
+
+
 def _channel(path: Path, file: str, key: str, column: str, unit: str | None, timezone: str | None) -> pd.Series:
     try:
         measured = read_load_csv(path, column=column, unit=unit, timezone=timezone, max_gap_fill_s=0)
     except InputError as exc:
         where = f"measured.{key} (column {column!r})" + (f", {exc.where}" if exc.where else "")
-        raise InputError(exc.message, file=exc.file or file, where=where, hint=exc.hint) from exc
+        raise _in_our_words(exc, key, file, where) from exc
     return measured.power_w
 
 
