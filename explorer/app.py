@@ -41,13 +41,14 @@ from explorer.views import (  # noqa: E402
     report,
     start,
 )
+from explorer.views import calibration as calibration_view  # noqa: E402
 from explorer.views import compare as compare_view  # noqa: E402
 from explorer.views import resolution as resolution_view  # noqa: E402
 from explorer.views import sweep as sweep_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
 TABS = ("Energy by month", "Typical day", "Output vs base load", "Options", "Sweep", "Checks", "Outages",
-        "Data files", "Save and report")
+        "Data files", "Calibration", "Save and report")
 
 
 class SessionFolder:
@@ -116,7 +117,8 @@ def main() -> None:
     with tabs["Data files"]:
         with section("Data files"):
             overrides = data_files.render_uploads(source.scenario, folder)
-    base = state.apply_overrides(source.scenario, overrides)
+            calibration_view.render_upload(source.scenario, folder)
+    base = calibration_view.apply_fitted(state.apply_overrides(source.scenario, overrides))
     if st.session_state.get("_identity") != source.identity:
         controls.reset(base, source.option_hint)
         st.session_state["_identity"] = source.identity
@@ -180,6 +182,8 @@ def main() -> None:
     with tabs["Data files"], section("Data in use"):
         st.divider()
         data_files.render_current(sim)
+    with tabs["Calibration"], section("Calibration"):
+        calibration_view.render(source.scenario)
     with tabs["Save and report"], section("Save and report"):
         month = st.session_state.get("day_month")
 

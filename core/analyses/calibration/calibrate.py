@@ -226,8 +226,9 @@ def calibrate(sc: Scenario, *, progress: Callable[[float, str], None] | None = N
         monthly_out = _sum(array_output_w(typical_model, lossmap), names_all) if names_all else measured_all * 0
         tables[when]["hourly"] = goodness.sums(measured_all, hourly_out, hourly_use, step, "1h", tz)
         tables[when]["monthly"] = goodness.sums(measured_all, monthly_out, kept_all, step, "MS", tz)
-        tables[when]["daily"] = goodness.sums(measured_all, monthly_out, kept_all, step, "D", tz)
-        series[when] = monthly_out
+        # Days and intervals for the figures: on the hourly basis, where the model's weather is the record's.
+        tables[when]["daily"] = goodness.sums(measured_all, hourly_out, hourly_use, step, "D", tz)
+        series[when] = hourly_out
     fit = {when: {res: goodness.scores(tables[when][res]) for res in ("monthly", "hourly")} for when in tables}
     # Guideline 14 judges a model run on the period's own weather; against a typical year the monthly figures
     # show the weather's difference as much as the model's, so they are reported but not judged.
