@@ -108,6 +108,10 @@ def render(sc: Scenario) -> None:
         st.info("Upload the existing system's monitoring export on the *Data files* tab (or name it in the "
                 "scenario's [measured] section) to compare the model with what the system really did.")
         return
+    if not sc.resolve(sc.measured.path, "measured.path").exists():  # e.g. a saved scenario uploaded without it
+        st.info(f"The scenario names the monitoring export {Path(sc.measured.path).name!r}, which is not here: "
+                "upload it with the scenario, or on the *Data files* tab, to calibrate.")
+        return
     with st.spinner("Screening the record and fitting the model…"):
         cal = _calibration(_key(sc), sc)
     out = cal.to_dict()
