@@ -132,7 +132,7 @@ def write_export(frame: pd.DataFrame, path: Path, *, decimal_comma: bool = False
     out.index = out.index.tz_convert(TZ).strftime("%Y-%m-%d %H:%M")
     out.index.name = "time"
     if decimal_comma:
-        out.to_csv(path, sep=";", decimal=",", float_format="%.4f")
+        out.to_csv(path, sep=";", decimal=",", float_format="%.7f")
     else:
-        out.to_csv(path, float_format="%.4f")
+        out.to_csv(path, float_format="%.7f")
     return path

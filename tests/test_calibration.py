@@ -191,3 +191,13 @@ def test_daily_totals_are_refused_with_the_reason(tmp_path):
     scenario.write_text(scenario.read_text().replace('grid_import = "grid_kwh"\nload = "load_kwh"\nsoc = "soc_pct"\n',
                                                      ""))
     _refused(scenario, contains="an hour apart or finer")
+
+
+@pytest.mark.parametrize(("step_s", "days"), [(3600, 35), (300, 28), (60, 21)])
+def test_any_interval_from_a_minute_to_an_hour(tmp_path, step_s, days):
+    # Hourly records find clear days by their shape against the clear sky; finer ones by Reno & Hansen (2016).
+    truth = make_record("2023-05-01", days, losses_pct=14.0, standing_draw_w=45.0, seed=3, step_s=step_s)
+    cal = calibrate(load_scenario(site_with(tmp_path, truth.frame)))
+    assert cal.record.step_s == step_s
+    assert abs(cal.losses["south roof"].value - truth.losses_pct) <= 1.5
+    assert abs(cal.standing_draw.value - truth.standing_draw_w) <= 5.0
