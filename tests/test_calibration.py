@@ -72,6 +72,7 @@ def test_curtailed_afternoons_are_excluded_not_fitted(synthetic):
     assert curtailed.sum() > 20  # the record does curtail
     reasons = cal.intervals["excluded"][curtailed]
     assert (reasons != "").all()
+    assert not (cal.channels[0].used & curtailed).any()  # none of them behind the fitted losses
     assert cal.to_dict()["excluded"]["curtailed"] >= curtailed.sum()
     assert cal.to_dict()["excluded"]["gaps"] > 0  # the record has gaps, counted not filled
 
@@ -201,3 +202,20 @@ def test_any_interval_from_a_minute_to_an_hour(tmp_path, step_s, days):
     assert cal.record.step_s == step_s
     assert abs(cal.losses["south roof"].value - truth.losses_pct) <= 1.5
     assert abs(cal.standing_draw.value - truth.standing_draw_w) <= 5.0
+
+
+def test_without_soc_flat_tops_are_found(tmp_path):
+    # Without a state-of-charge column the curtailed afternoons are found by their flat tops below the clear sky.
+    truth = make_record("2023-05-01", 42, losses_pct=14.0, standing_draw_w=45.0, seed=3)
+    scenario = site_with(tmp_path, truth.frame.drop(columns="soc_pct"))
+    scenario.write_text(scenario.read_text().replace('soc = "soc_pct"\n', ""))
+    cal = calibrate(load_scenario(scenario))
+    out = cal.to_dict()
+    assert abs(out["fitted"]["arrays"]["south roof"]["losses_pct"] - truth.losses_pct) <= 1.5
+    curtailed = truth.curtailed.reindex(cal.intervals.index, fill_value=False)
+    assert out["excluded"]["curtailed"] > 0
+    assert ((cal.intervals["excluded"] == "curtailed") & curtailed).sum() >= 0.5 * curtailed.sum()
+    used = cal.channels[0].used
+    assert (used & curtailed).sum() <= 0.02 * used.sum()  # the edges of a held-back stretch, at most
+    assert out["fitted"]["standing_draw_w"] is None  # it needs the SOC
+    assert any("state of charge" in n for n in out["notes"])

@@ -49,6 +49,7 @@ class Channel:
     rating_w: float
     screen: Screen
     clear_days: tuple = ()
+    used: pd.Series | None = None  # the intervals the losses were fitted on
 
 
 @dataclass(frozen=True, eq=False)
@@ -178,20 +179,23 @@ def calibrate(sc: Scenario, *, progress: Callable[[float, str], None] | None = N
                 days = sorted(set(day[usable]))
                 fitted = fitting.losses_from_days(measured, model, usable, day, days, step, fitting.MIN_WEATHER_DAYS)
                 clear: list = []
+                used = usable
             else:
                 usable = usable & ~clipping_cs
-                clear = fitting.clear_days(measured, cs, usable, day, rating, step)
+                clear, clear_usable = fitting.clear_days(measured, cs, usable, day, rating, step)
                 if len(clear) < fitting.MIN_CLEAR_DAYS:
                     raise fitting.NotFitted(f"too cloudy or too short: {len(clear)} clear-sky day(s) among "
                                             f"{record.span_days:.0f} days, at least {fitting.MIN_CLEAR_DAYS} needed")
-                fitted = fitting.losses_from_days(measured, cs, usable, day, clear, step, fitting.MIN_CLEAR_DAYS)
+                fitted = fitting.losses_from_days(measured, cs, clear_usable, day, clear, step,
+                                                  fitting.MIN_CLEAR_DAYS)
+                used = clear_usable
         except fitting.NotFitted as exc:
             raise InputError(f"cannot fit the array losses: {exc}", file=file, where=where,
                              hint="export a longer record (a month or more, with some sunny days), or give the "
                                   "period's own measured weather as measured.weather_path") from None
         losses.update({n: fitted for n in names})
         channels.append(Channel(key=key, column=column, arrays=names, rating_w=rating, screen=screen,
-                                clear_days=tuple(clear)))
+                                clear_days=tuple(clear), used=used))
 
     standing = None
     if record.grid_import_w is not None and record.soc_pct is not None and sc.battery is not None:

@@ -2,8 +2,8 @@
 
 **Array losses.** On clear-sky periods the measured PV output is compared with the same array modelled under
 pvlib's Ineichen clear sky (its shipped Linke turbidity), lossless; each clear day gives a ratio
-``r = Σ measured / Σ modelled`` over its intervals with the sun above :data:`MIN_ELEVATION_DEG` that passed the
-screening and keep the controller below its output limit, and the loss is ``100 · (1 − mean r)``. Clear periods are
+``r = Σ measured / Σ modelled`` over its clear intervals with the sun above :data:`MIN_ELEVATION_DEG` that passed
+the screening and keep the controller below its output limit, and the loss is ``100 · (1 − mean r)``. Clear periods are
 found by Reno & Hansen's method, "Identification of periods of clear sky irradiance in time series of GHI
 measurements", Renewable Energy 90 (2016) 520–531 (:func:`pvlib.clearsky.detect_clearsky`), applied to the PV
 output normalised to its rating against the normalised clear-sky model (records of up to 15-minute intervals);
@@ -23,14 +23,13 @@ averaged over the record's months; its uncertainty from the spread of daily mini
 from __future__ import annotations
 
 import math
-import warnings
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-import pvlib
 from scipy import stats
 
+from core.analyses.calibration.clearsky import clear_intervals
 from core.model.loads import base_load_w
 
 MIN_ELEVATION_DEG = 15.0
@@ -58,26 +57,15 @@ class NotFitted(Exception):
     """A value the record cannot give; the message says what is missing."""
 
 
-def clear_intervals(measured_w: pd.Series, model_w: pd.Series, rating_w: float, step_s: int) -> pd.Series:
-    """Clear-sky intervals of a PV output against its clear-sky model (both W), by Reno & Hansen (2016)."""
-    scale = 1000.0 / rating_w  # W/m²-like numbers, the scale the method's thresholds are written for
-    meas = (measured_w.fillna(0.0) * scale).clip(lower=0.0)
-    model = model_w * scale
-    if step_s <= 900:
-        with warnings.catch_warnings(), np.errstate(all="ignore"):
-            warnings.simplefilter("ignore")
-            flags = pvlib.clearsky.detect_clearsky(meas, model, infer_limits=True)
-        return pd.Series(np.asarray(flags, dtype=bool), index=measured_w.index)
-    return pd.Series(False, index=measured_w.index)
-
-
 def clear_days(measured_w: pd.Series, model_w: pd.Series, usable: pd.Series, day: pd.Series, rating_w: float,
-               step_s: int) -> list:
-    """Days (labels of ``day``) on which the PV output followed the clear-sky model (see the module docstring)."""
+               step_s: int) -> tuple[list, pd.Series]:
+    """Days (labels of ``day``) on which the PV output followed the clear-sky model, and the clear intervals of
+    those days that may be fitted (see the module docstring)."""
     if step_s <= 900:
         clear = clear_intervals(measured_w, model_w, rating_w, step_s) & usable
         share = clear[usable].groupby(day[usable]).mean()
-        return sorted(share.index[share >= CLEAR_DAY_SHARE])
+        days = sorted(share.index[share >= CLEAR_DAY_SHARE])
+        return days, clear & day.isin(days)
     frame = pd.DataFrame({"m": measured_w, "c": model_w, "day": day})[usable]
     out, ratios = [], {}
     for label, g in frame.groupby("day"):
@@ -87,7 +75,7 @@ def clear_days(measured_w: pd.Series, model_w: pd.Series, usable: pd.Series, day
     if ratios:
         best = np.percentile(list(ratios.values()), 90)
         out = sorted(k for k, r in ratios.items() if r >= 0.9 * best)
-    return out
+    return out, usable & day.isin(out)
 
 
 def _mean_with_ci(ratios: np.ndarray) -> tuple[float, float]:

@@ -30,6 +30,8 @@ FULL_MARGIN_PCT = 3.0
 FULL_SOC_MIN_PCT = 80.0
 LOW_FRACTION = 0.005
 ABOVE_CLEAR_SKY = 1.3
+HELD_BELOW = 0.8
+FLAT_RANGE = 0.08
 
 
 @dataclass(frozen=True, eq=False)
@@ -69,6 +71,25 @@ def flat_tops(power_w: pd.Series, step_s: int) -> pd.Series:
     return flags.reindex(power_w.index).fillna(False).astype(bool) & power_w.notna()
 
 
+def held_below_clear_sky(power_w: pd.Series, clearsky_lossless_w: pd.Series, sun_elevation_deg: pd.Series,
+                         rating_w: float) -> pd.Series:
+    """Flat stretches well below the day's clear-sky envelope: how curtailment looks without a SOC column.
+
+    The envelope is the day's 90th-percentile ratio of output to the lossless clear-sky model (with the sun above
+    15°) times the model. An interval is taken as held back when its output is below :data:`HELD_BELOW` of the
+    envelope while it and its two neighbours differ by less than :data:`FLAT_RANGE` of the rating (a zero-export
+    system holds its arrays to the load, which changes slowly; clouds move the output in steps of the clear-sky
+    scale). Cloudy stretches that happen to be flat are caught too; they would not be fitted anyway.
+    """
+    high = (sun_elevation_deg > 15.0) & (clearsky_lossless_w > 0.1 * rating_w)
+    ratio = (power_w / clearsky_lossless_w).where(high)
+    day = pd.Series(power_w.index.date, index=power_w.index)
+    envelope = ratio.groupby(day).transform(lambda r: r.quantile(0.9)) * clearsky_lossless_w
+    spread = power_w.rolling(3, center=True, min_periods=3)
+    flat = (spread.max() - spread.min()) < FLAT_RANGE * rating_w
+    return (high & (power_w < HELD_BELOW * envelope) & flat).fillna(False).astype(bool)
+
+
 def screen_pv(power_w: pd.Series, *, sun_elevation_deg: pd.Series, clearsky_lossless_w: pd.Series, rating_w: float,
               step_s: int, soc_pct: pd.Series | None) -> Screen:
     """Screen one PV channel (mean power, W) against its lossless clear-sky model and rating (see module doc)."""
@@ -83,8 +104,9 @@ def screen_pv(power_w: pd.Series, *, sun_elevation_deg: pd.Series, clearsky_loss
         mark(full_battery(soc_pct), "curtailed")
         method = "state of charge at or near full"
     else:
-        mark(flat_tops(power_w, step_s), "curtailed")
-        method = "flat-top detection (pvanalytics geometric clipping)"
+        held = held_below_clear_sky(power_w, clearsky_lossless_w, sun_elevation_deg, rating_w)
+        mark(flat_tops(power_w, step_s) | held, "curtailed")
+        method = "flat-top detection (pvanalytics geometric clipping; flat stretches below the clear sky)"
     lit = power_w > LOW_FRACTION * rating_w
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
