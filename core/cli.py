@@ -141,6 +141,22 @@ def _cmd_inspect_load(args) -> int:
     return EXIT_OK
 
 
+def _cmd_calibrate(args) -> int:
+    from core.analyses.calibration import calibrate, write_calibrated
+    from core.present.calibration_text import format_calibration
+    from core.scenario import load_scenario
+
+    sc = load_scenario(args.scenario)
+    cal = calibrate(sc, progress=stderr_progress("calibrate") if sys.stderr.isatty() else None)
+    if args.write:
+        write_calibrated(cal.calibrated, args.write, [args.scenario, *sc.data_files().values()])
+    out = cal.to_dict()
+    print(json.dumps(out, indent=2) if args.json else format_calibration(out, sc.name))
+    if args.write and not args.json:
+        print(f"\nCalibrated scenario written to {args.write}")
+    return EXIT_OK
+
+
 def _layout_from_args(sc, args):
     from core.analyses.options import Layout, layout_of
 
@@ -355,6 +371,7 @@ _EPILOG = {
     "design": "example:\n  python -m core design sample_sites/maple_hollow/scenario.toml --top 5 --write-best designs/",
     "check": "example:\n  python -m core check sample_sites/maple_hollow/scenario.toml",
     "spacing": "example:\n  python -m core spacing --latitude 41 --tilt 10 --length 1.7 --window 10-14 --json",
+    "calibrate": "example:\n  python -m core calibrate sample_sites/maple_hollow/scenario.toml --write calibrated.toml",
     "resolution": "example:\n  python -m core resolution sample_sites/maple_hollow/scenario.toml --option ac_backed_up",
 }
 
@@ -436,6 +453,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--azimuth", type=float, help="way the rows face, degrees (default: towards the equator)")
     p.add_argument("--window", default="10-14", help="design window in solar hours (default 10-14)")
     p.add_argument("--json", action="store_true", help="print one JSON object (gap_m, pitch_m, …)")
+
+    p = add("calibrate", "fit the existing arrays' losses, the standing draw and the base load to the monitoring "
+            "export named in [measured]", _cmd_calibrate)
+    p.add_argument("scenario", help="scenario file (TOML) with a [measured] section")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--write", metavar="PATH", help="write the calibrated scenario (a copy) to PATH")
 
     return parser
 

@@ -43,13 +43,14 @@ SECTIONS: tuple[tuple[str, type, str], ...] = (
     ("[grid.random_outages]", schema.RandomOutages, "Outages drawn at random (optional; an inline table)."),
     ("[expansion]", schema.Expansion, "The panels being considered, and what each way of adding them costs."),
     ("[design]", schema.Design, "What a design search may buy and where it may put it (optional)."),
+    ("[measured]", schema.Measured, "The existing system's monitoring export, for calibration (optional)."),
     ("[tariff]", schema.Tariff, "Prices and the horizon of the economics."),
     ("[simulation]", schema.SimulationSettings, "How the year is simulated."),
 )
 
 #: Keys of the top-level dataclass that are sections (listed under their own header) or not read from the file.
 NOT_KEYS = {"site", "weather", "modules", "inverter_charger", "load", "battery", "controllers", "microinverters",
-            "arrays", "faces", "grid", "expansion", "design", "tariff", "simulation", "base_dir", "confine_to"}
+            "arrays", "faces", "grid", "expansion", "design", "measured", "tariff", "simulation", "base_dir", "confine_to"}
 
 #: What each key means, in our words: ``"[section] key"`` → text.
 MEANINGS: dict[str, str] = {
@@ -198,6 +199,16 @@ MEANINGS: dict[str, str] = {
     "[expansion] cost_dc": "Cost of the whole DC-coupled expansion at `count` panels; scaled per panel.",
     "[expansion] coupling": "The option looked at first (\"ac_backed_up\", \"ac_grid\" or \"dc\"); all are "
                             "compared anyway.",
+    "[measured] path": "The monitoring export (CSV), relative to the scenario file.",
+    "[measured] unit": "Unit of the PV, grid-import and load columns: W, kW (mean power), Wh, kWh (energy per "
+                       "interval) or kWh_register (a cumulative meter register); decided from the header when absent.",
+    "[measured] pv": "The PV column: one name for all existing DC-coupled arrays, or a table {array name = column}.",
+    "[measured] grid_import": "The grid-import column (optional): fits the standing draw.",
+    "[measured] load": "The load column (optional): fits the base load.",
+    "[measured] soc": "The battery state-of-charge column in % (optional): marks curtailed periods.",
+    "[measured] timezone": "IANA time zone of naive timestamps in the export; the site's when absent.",
+    "[measured] weather_path": "Measured weather of the same period (optional): fits hour by hour instead of on "
+                               "clear-sky days.",
     "[design] module": "The module type the design search may add.",
     "[design] new_modules_max": "Most modules the search may add.",
     "[design] faces": "Faces it may use; every face with room when left out.",

@@ -40,6 +40,7 @@ from explorer.views import (  # noqa: E402
     start,
     sweep,
 )
+from explorer.views import calibration as calibration_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
 
@@ -55,6 +56,7 @@ VIEWS = (
     ("Checks", checks.render),
     ("Outages", outages.render),
     ("Data files", data_files.render),
+    ("Calibration", None),  # drawn from the scenario as loaded (below), not from the what-if
     ("Save and report", report.render),
 )
 DATA_FILES = "Data files"
@@ -123,7 +125,8 @@ def main() -> None:
     if tabs[DATA_FILES].open:
         with tabs[DATA_FILES], section("Data files"):
             data_files.render_uploads(source.scenario, folder)
-    base = state.apply_overrides(source.scenario, data_files.overrides())
+            calibration_view.render_upload(source.scenario, folder)
+    base = calibration_view.apply_fitted(state.apply_overrides(source.scenario, data_files.overrides()))
     if st.session_state.get("_identity") != source.identity:
         controls.reset(base, source.option_hint)
         st.session_state["_identity"] = source.identity
@@ -137,13 +140,18 @@ def main() -> None:
 
     model = None
     with head, section("Settings"):
-        identity = f"{source.identity}|{id(source.scenario)}|{data_files.overrides()!r}"
+        identity = (f"{source.identity}|{id(source.scenario)}|{data_files.overrides()!r}|"
+                    f"{st.session_state.get(calibration_view.APPLIED_KEY)!r}")
         model = caching.page_model(caching.built_scenario(identity, base, c), c.option)
         headline.render(model)
 
     for label, render in VIEWS:
         tab = tabs[label]
         if not tab.open:
+            continue
+        if render is None:  # the calibration fits the scenario as loaded, before the what-if's changes
+            with tab, section(label):
+                calibration_view.render(source.scenario)
             continue
         with tab:
             if model is None:

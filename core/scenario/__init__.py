@@ -20,6 +20,7 @@ from core.scenario.schema import (  # noqa: F401  (the package's public names)
     Grid,
     InverterCharger,
     Load,
+    Measured,
     Microinverter,
     Module,
     Obstacle,

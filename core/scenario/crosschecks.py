@@ -23,7 +23,10 @@ def cross_check(sc: Scenario, r: Reader) -> None:
                 f"defined: {', '.join(table)}" if table else f"add a [{kind}s.{name}] section")
             r.fail(where, f"no {kind} named {name!r}", hint)
 
-    for where, zone in (("site.timezone", sc.site.timezone), ("load.timezone", sc.load.timezone)):
+    zones = [("site.timezone", sc.site.timezone), ("load.timezone", sc.load.timezone)]
+    if sc.measured is not None:
+        zones.append(("measured.timezone", sc.measured.timezone))
+    for where, zone in zones:
         if zone is not None:
             try:
                 standard_offset(zone)
@@ -109,6 +112,31 @@ def cross_check(sc: Scenario, r: Reader) -> None:
             ref(e.microinverter, sc.microinverters, "expansion.microinverter", "microinverter")
         if e.controller is not None:
             ref(e.controller, sc.controllers, "expansion.controller", "controller")
+    check_measured(sc, r)
+
+
+def check_measured(sc: Scenario, r: Reader) -> None:
+    """The [measured] monitoring export: a path, at least one column, PV columns named after DC-coupled arrays."""
+    m = sc.measured
+    if m is None:
+        return
+    if not m.path:
+        r.fail("measured.path", "the [measured] section needs the monitoring export's path",
+               "give the CSV file's path, relative to the scenario")
+    if m.pv is None and m.grid_import is None and m.load is None:
+        r.fail("measured", "no column is named", "name at least one of pv, grid_import or load")
+    dc_arrays = [a.name for a in sc.arrays if a.coupling == "dc"]
+    if m.pv is not None and not dc_arrays:
+        r.fail("measured.pv", "the scenario has no DC-coupled array to compare the PV column with",
+               "add the existing arrays as [[arrays]] with coupling = 'dc'")
+    if isinstance(m.pv, dict):
+        if not m.pv:
+            r.fail("measured.pv", "the table of array columns is empty", 'write pv = { "ARRAY NAME" = "COLUMN" }')
+        for name in m.pv:
+            if name not in dc_arrays:
+                near = difflib.get_close_matches(name, dc_arrays, n=1, cutoff=0.3)
+                r.fail(f"measured.pv.{name}", f"no DC-coupled array named {name!r}",
+                       f"did you mean {near[0]!r}?" if near else f"DC-coupled arrays: {', '.join(dc_arrays)}")
 
 
 def with_face_orientations(sc: Scenario) -> Scenario:

@@ -83,7 +83,8 @@ class Reader:
         if origin is dict:
             if not isinstance(raw, dict):
                 self.fail(where, "expected a table of named entries", f"write [{where}.NAME] sections")
-            return {name: self.build(args[1], sub, f"{where}.{name}") for name, sub in raw.items()}
+            # Named sections ([modules.NAME]) or plain named values (measured.pv = {"south" = "pv1_kwh"}).
+            return {name: self.value(args[1], sub, f"{where}.{name}", {}) for name, sub in raw.items()}
         if dataclasses.is_dataclass(tp):
             return self.build(tp, raw, where)
         if tp is bool:

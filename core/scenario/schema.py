@@ -60,6 +60,25 @@ class Load:
 
 
 @dataclass(frozen=True)
+class Measured:
+    """The existing system's monitoring export, for calibration (``python -m core calibrate``).
+
+    Columns are named as in the file's header. ``pv`` is one column for all existing DC-coupled arrays, or a
+    table ``{array name = column}`` with one column per array. ``unit`` applies to the PV, grid-import and load
+    columns (per-interval energy or mean power, as for [load]); ``soc`` is in percent.
+    """
+
+    path: str | None = None
+    unit: Literal["W", "kW", "Wh", "kWh", "kWh_register"] | None = None
+    pv: str | dict[str, str] | None = None
+    grid_import: str | None = None
+    load: str | None = None
+    soc: str | None = None
+    timezone: str | None = None  # of naive timestamps in the file; defaults to the site's
+    weather_path: str | None = None  # measured weather of the same period (any format the weather reader takes)
+
+
+@dataclass(frozen=True)
 class Module:
     pmax_w: float = field(metadata=_num(1, 1000, lo_open=True))
     vmp_v: float = field(metadata=_num(1, 200))
@@ -290,6 +309,7 @@ class Scenario:
     design: Design | None = None
     tariff: Tariff = field(default_factory=Tariff)
     simulation: SimulationSettings = field(default_factory=SimulationSettings)
+    measured: Measured | None = None
     schema: int = SCHEMA
     # Where relative paths are resolved from; not part of the file and not compared.
     base_dir: Path = field(default=Path("."), compare=False, repr=False)
@@ -319,11 +339,12 @@ class Scenario:
     def data_files(self) -> dict[str, Path]:
         """The data files the scenario names, as ``{"section.key": absolute path}``."""
         return {f"{section}.{key}": self.resolve(value, f"{section}.{key}") for section, key in PATH_KEYS
-                if (value := getattr(getattr(self, section), key))}
+                if (value := getattr(getattr(self, section), key, None))}
 
     def replace(self, **changes: Any) -> Scenario:
         return dataclasses.replace(self, **changes)
 
 
 #: Where a scenario names data files: (section, key).
-PATH_KEYS = (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path"))
+PATH_KEYS = (("weather", "path"), ("load", "path"), ("load", "grid_only_path"), ("grid", "outages_path"),
+             ("measured", "path"), ("measured", "weather_path"))

@@ -49,7 +49,7 @@ def _absolute_paths(sc: Scenario) -> Scenario:
     wherever their files were saved."""
     sections = {}
     for section, key in PATH_KEYS:
-        value = getattr(getattr(sc, section), key)
+        value = getattr(getattr(sc, section), key, None)  # optional sections ([measured]) may be absent
         if value is not None:
             resolved = str(sc.resolve(value, f"{section}.{key}"))
             sections.setdefault(section, {})[key] = resolved
