@@ -128,7 +128,7 @@ def format_comparison(comparison: dict) -> str:
     keys = [k for k in ("baseline", "ac_backed_up", "ac_grid", "dc") if k in opts]
     cur = comparison["currency"]
     rows = [
-        ("Loads get from PV, added", lambda o: o["delta"]["to_loads_added_kwh"], "kWh"),
+        ("Loads supplied from PV, added", lambda o: o["delta"]["to_loads_added_kwh"], "kWh"),
         ("Grid import saved", lambda o: o["delta"]["grid_import_saved_kwh"], "kWh"),
         ("Self-consumed PV added", lambda o: o["delta"]["self_consumed_added_kwh"], "kWh"),
         ("New panels' potential", lambda o: o["delta"]["expansion_potential_kwh"], "kWh"),
@@ -164,6 +164,9 @@ def format_comparison(comparison: dict) -> str:
             else:
                 cells.append(f"{0.0 if abs(v) < 0.5 else v:>{col}.0f}")
         lines.append(f"{name + ' (' + unit + ')':<{width}}" + "".join(cells))
+    # whether each option may be recommended (the verdict names the rules it breaks)
+    lines.append(f"{'Passes every rule':<{width}}" + "".join(
+        f"{'—' if k == 'baseline' else ('yes' if opts[k].get('valid', True) else 'no'):>{col}}" for k in keys))
     lines.append("")
     for reason in comparison["verdict"]["reasons"] or [comparison["verdict"]["text"]]:
         lines += textwrap.wrap(reason, width=100, initial_indent="- ", subsequent_indent="  ")

@@ -9,6 +9,7 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
+from core.analyses.options import OPTION_LABELS
 from core.present import figures as palette
 from core.present.figures import MONTH_NAMES
 
@@ -126,33 +127,46 @@ def surplus_duration_chart(frame: pd.DataFrame) -> alt.LayerChart:
     ).properties(width=WIDTH, height=HEIGHT)
 
 
+def option_scale(options) -> alt.Scale:
+    """Colours of the options present (keys such as ``"dc"``), from the palette keyed by option, over their labels."""
+    present = set(options)
+    keys = [k for k in palette.OPTION_COLOURS if k in present]
+    return alt.Scale(domain=[OPTION_LABELS[k] for k in keys], range=[palette.OPTION_COLOURS[k] for k in keys])
+
+
 def options_chart(frame: pd.DataFrame) -> alt.Chart:
     """Grouped bars of each option's change against the existing system (kWh/yr).
 
-    ``frame`` columns: ``option`` (label), ``figure`` (label) and ``kwh``.
+    ``frame`` columns: ``option`` (key, e.g. ``"dc"``), ``figure`` (label) and ``kwh``; the option's label is
+    shown in words.
     """
-    options = list(dict.fromkeys(frame["option"]))
+    frame = frame.assign(option_label=[OPTION_LABELS[k] for k in frame["option"]])
+    options = list(dict.fromkeys(frame["option_label"]))
     return alt.Chart(frame, title=alt.Title("The options side by side",
                                             subtitle="change against the existing system (kWh per year)")).mark_bar(
     ).encode(
         x=alt.X("figure:N", title=None, sort=list(dict.fromkeys(frame["figure"])),
                 axis=alt.Axis(labelAngle=0, labelLimit=160)),
-        xOffset=alt.XOffset("option:N", sort=options),
+        xOffset=alt.XOffset("option_label:N", sort=options),
         y=alt.Y("kwh:Q", title="Change (kWh/yr)"),
-        color=alt.Color("option:N", scale=_scale(palette.OPTION_COLOURS, options), legend=_legend("Option")),
-        tooltip=[alt.Tooltip("option:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
+        color=alt.Color("option_label:N", scale=option_scale(frame["option"]), legend=_legend("Option")),
+        tooltip=[alt.Tooltip("option_label:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
                  alt.Tooltip("kwh:Q", title="Change (kWh/yr)", format=",.0f")],
     ).properties(width=WIDTH, height=HEIGHT)
 
 
 def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "self_consumed_added_kwh",
                   value_title: str = "Added self-consumed energy (kWh/yr)", flag: str | None = "flag",
-                  current: dict | None = None) -> alt.LayerChart:
+                  current: dict | None = None, failed: str | None = "failed_checks",
+                  centre_zero: bool | None = None) -> alt.LayerChart:
     """Panel count × orientation heatmap of ``value``; cells with a non-empty ``flag`` get its letters.
 
-    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (short text such as "C" or "X").
-    ``current`` ({"count": n, x: v}) frames one cell, the setting in use.
+    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (short text such as "C" or "X") and
+    ``failed`` (the rule ids an invalid cell breaks, shown in its tooltip). ``current`` ({"count": n, x: v})
+    frames one cell, the setting in use. ``centre_zero`` colours on a diverging map centred on 0, for a value
+    whose sign matters (an NPV: below zero the panels do not pay); by default it is on for ``value == "npv"``.
     """
+    centre = (value == "npv") if centre_zero is None else centre_zero
     base = alt.Chart(frame).encode(
         x=alt.X(f"{x}:O", title=x_title, axis=alt.Axis(labelAngle=0)),
         y=alt.Y("count:O", title="Panels added", sort="descending"))
@@ -160,8 +174,15 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "se
                alt.Tooltip(f"{value}:Q", title=value_title, format=",.0f")]
     if flag and flag in frame:
         tooltip.append(alt.Tooltip(f"{flag}:N", title="Marked"))
+    if failed and failed in frame:
+        tooltip.append(alt.Tooltip(f"{failed}:N", title="Set aside: breaks"))
+    if centre:
+        limit = float(max(frame[value].abs().max(), 1.0)) if len(frame) else 1.0
+        scale = alt.Scale(scheme=palette.DIVERGING_SCHEME, domain=[-limit, limit], domainMid=0)
+    else:
+        scale = alt.Scale(scheme=palette.SEQUENTIAL_SCHEME)
     cells = base.mark_rect().encode(
-        color=alt.Color(f"{value}:Q", title=value_title, scale=alt.Scale(scheme=palette.SEQUENTIAL_SCHEME),
+        color=alt.Color(f"{value}:Q", title=value_title, scale=scale,
                         legend=alt.Legend(orient="right", gradientLength=220, titleLimit=260)),
         tooltip=tooltip)
     layers = [cells]
@@ -180,8 +201,7 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "se
             x=alt.X(f"{x}:O"), y=alt.Y("count:O", sort="descending")))
     return alt.layer(*layers, title=alt.Title(
         f"{value_title.split(' (')[0]} by panel count and {x_title.split(' (')[0].lower()}",
-        subtitle="against the existing system; C = more than a quarter of the new panels' output curtailed or "
-                 "clipped, X = uncontrolled export")
+        subtitle="against the existing system; marked cells: see the legend below the chart")
     ).properties(width=WIDTH, height=HEIGHT)
 
 

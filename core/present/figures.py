@@ -13,6 +13,9 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from core.analyses.options import Option
+from core.model.metrics import ac_surplus_w
+
 # ---------------------------------------------------------------------------------------------- colours
 # The Okabe–Ito palette, distinguishable under the common colour-vision deficiencies (Okabe & Ito, "Color
 # Universal Design", 2008; openly published). One meaning, one colour, in the explorer and the HTML report.
@@ -45,12 +48,12 @@ SERIES_COLOURS = {
     "Battery SOC": BLUISH_GREEN,
 }
 
-#: The expansion options.
+#: The expansion options, keyed by option (not by label text, so a reworded label keeps its colour).
 OPTION_COLOURS = {
-    "Existing system": GREY,
-    "AC-coupled, backed-up side": ORANGE,
-    "AC-coupled, grid side": VERMILLION,
-    "DC-coupled": BLUE,
+    Option.BASELINE: GREY,
+    Option.AC_BACKED_UP: ORANGE,
+    Option.AC_GRID: VERMILLION,
+    Option.DC: BLUE,
 }
 
 #: Check outcomes.
@@ -144,11 +147,18 @@ def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | 
 def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
                         loads_w: pd.Series | None = None) -> pd.DataFrame:
     """Duration curve over the daylight steps: AC-coupled output minus the load at that moment (W), sorted
-    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``."""
-    ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
-    load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"], dtype=float)
+    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``.
+
+    Without ``loads_w`` this is :func:`core.model.metrics.ac_surplus_w` (all loads); with it, the output
+    against those loads (the ones an option's output meets first)."""
+    if loads_w is None:
+        per_step = ac_surplus_w(steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"],
+                                steps["load_grid_only_w"], steps.get("grid_up"))
+    else:
+        ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
+        per_step = ac - np.asarray(loads_w, dtype=float)
     day = np.asarray(daylight, dtype=bool)
-    surplus = np.sort((ac - load)[day])[::-1]
+    surplus = np.sort(per_step[day])[::-1]
     return pd.DataFrame({"hours": np.arange(1, len(surplus) + 1) * dt_h, "surplus_w": surplus})
 
 
@@ -173,12 +183,16 @@ class Headline:
 
 
 def loads_from_pv_kwh(energy_kwh: dict) -> float:
-    """Energy delivered to the loads that did not come from the grid (kWh): loads served − grid import.
+    """Energy delivered to the loads that did not come from the grid (kWh): loads served − grid import, the year
+    total ``loads_from_pv`` of :func:`core.model.metrics.year_totals`.
 
     Grid import that fed conversion losses or the battery is subtracted too, so this is a conservative figure
-    for what PV (directly or through the battery) gave the loads.
+    for what PV (directly or through the battery) gave the loads. It is not floored at zero, so that the
+    headline's change is exactly the options table's "Loads supplied from PV, added".
     """
-    return max(energy_kwh["load_served"] - energy_kwh["grid_import"], 0.0)
+    if "loads_from_pv" in energy_kwh:
+        return float(energy_kwh["loads_from_pv"])
+    return float(energy_kwh["load_served"] - energy_kwh["grid_import"])
 
 
 def headline_figures(results, baseline, *, payback_years: float | None = None,
@@ -192,7 +206,8 @@ def headline_figures(results, baseline, *, payback_years: float | None = None,
 
     return [
         Headline("loads_from_pv", "Loads supplied from PV", "kWh/yr", loads_from_pv_kwh(e), loads_from_pv_kwh(b),
-                 True, help="loads served minus grid import, over the year"),
+                 True, help="loads served minus all grid import, over the year; its change is the options "
+                            "table's \"Loads supplied from PV, added\""),
         Headline("curtailed", "Curtailed", "kWh/yr", e["curtailed"], b["curtailed"], False,
                  help="PV energy the controllers or the frequency-watt response held back"),
         Headline("clipped", "Clipped", "kWh/yr", e["clipped"], b["clipped"], False,

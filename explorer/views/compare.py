@@ -7,13 +7,15 @@ import math
 import pandas as pd
 import streamlit as st
 
+from core.analyses.compare import LOADS_ROW
 from core.analyses.options import OPTION_LABELS
+from core.analyses.validity import why_set_aside
 from core.present.figures import fmt_kwh, fmt_pct, fmt_years
 from explorer import charts
 
 #: (delta key, label) of the energy rows, kWh a year against the existing system.
 ENERGY_ROWS = (
-    ("to_loads_added_kwh", "More to the loads from PV"),
+    ("to_loads_added_kwh", LOADS_ROW),
     ("self_consumed_added_kwh", "More PV self-consumed"),
     ("battery_discharge_added_kwh", "More from the battery"),
     ("curtailed_added_kwh", "More curtailed"),
@@ -29,6 +31,14 @@ def _years(x: float | None) -> str:
     return fmt_years(math.inf if x is None else x)
 
 
+def _passes(r) -> str:
+    """"yes", or "no: " and the rules broken in the table's words (as the verdict says them)."""
+    if r.valid:
+        return "yes"
+    return "no: " + why_set_aside(r.failed_rules, exported_uncontrolled_kwh=r.delta["exported_uncontrolled_kwh"],
+                                  exported_uncontrolled_hours=r.delta["exported_uncontrolled_hours"])
+
+
 def options_table(comparison) -> pd.DataFrame:
     """Figures × options, as text with units (the baseline column holds the existing system's own year)."""
     opts = [k for k in comparison.options if k != "baseline"]
@@ -40,6 +50,7 @@ def options_table(comparison) -> pd.DataFrame:
                  *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
     rows.append(["More battery cycles (per year)",
                  *[f"{comparison.options[k].delta['battery_cycles_added']:+,.0f}" for k in opts]])
+    rows.append(["Passes every rule", *[_passes(comparison.options[k]) for k in opts]])
     cur = comparison.scenario.tariff.currency
     for label, get in (
         (f"Investment ({cur})", lambda e: f"{e.investment:,.0f}"),
@@ -55,7 +66,7 @@ def options_table(comparison) -> pd.DataFrame:
 
 def chart_frame(comparison) -> pd.DataFrame:
     labels = dict(ENERGY_ROWS)
-    return pd.DataFrame([{"option": OPTION_LABELS[k], "figure": labels[key], "kwh": r.delta[key]}
+    return pd.DataFrame([{"option": str(k), "figure": labels[key], "kwh": r.delta[key]}
                          for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
 
 
@@ -71,12 +82,13 @@ def render(comparison, chosen: str):
     v = comparison.verdict
     with st.container(border=True):
         st.markdown("**Verdict**")
-        # the energy winner first and the money winner last are the answer; what lies between explains it
+        # the energy winner (or "no option passes"), the options set aside and the money winner are the answer;
+        # the rest explains it
         first, *why = v.reasons or (v.text,)
-        money = [r for r in why if r.startswith("On money")]
-        why = [r for r in why if r not in money]
+        shown = [r for r in why if r.startswith(("Set aside", "On money"))]
+        why = [r for r in why if r not in shown]
         st.markdown(first)
-        for r in money:
+        for r in shown:
             st.markdown(r)
         if why:
             with st.expander(f"Why, in {len(why)} point{'s' if len(why) != 1 else ''}"):
@@ -85,8 +97,10 @@ def render(comparison, chosen: str):
     table = options_table(comparison)
     st.dataframe(table, hide_index=True, width="stretch", height=36 * (len(table) + 1) + 3)
     charts.draw(charts.options_chart(chart_frame(comparison)))
-    st.caption("More to the loads from PV = grid import saved + load served in outages that went unserved before. "
+    st.caption(f"{LOADS_ROW} = grid import saved + load served in outages that went unserved before (the change in "
+               "the headline's Loads supplied from PV). An option that fails a design check or sends energy into a "
+               "grid that may not be fed (uncontrolled export) is set aside and never named the winner. "
                "Self-consumed = harvested − exported (Luthander et al. 2015). Money: paid export only; uncontrolled "
-               "export earns nothing. Investment: the scenario's cost_ac / cost_dc, priced per panel when the count "
-               "differs from the file's.")
+               "export earns nothing. Investment: the scenario's cost_ac / cost_dc, priced per panel for the panels "
+               "simulated when the count differs from the file's.")
     return table, v.text
