@@ -226,7 +226,8 @@ def sweep_summary(table: pd.DataFrame, *, axis: str = "azimuth_deg", currency: s
     energy = valid.loc[valid["self_consumed_added_kwh"].idxmax()]
     cur = f" {currency}" if currency else ""
     text = (f"Best that passes, on money: {_where(money, axis, several)}, NPV {money['npv']:,.0f}{cur} "
-            f"({money['self_consumed_added_kwh']:,.0f} kWh/yr more self-consumed). ")
+            f"({money['self_consumed_added_kwh']:,.0f} kWh/yr more self-consumed)"
+            + ("; it does not pay: no setting that passes has an NPV above zero. " if money["npv"] < 0 else ". "))
     text += (f"On energy: {_where(energy, axis, several)}, {energy['self_consumed_added_kwh']:,.0f} kWh/yr more "
              f"self-consumed (NPV {energy['npv']:,.0f}{cur}).")
     top = added.loc[added["self_consumed_added_kwh"].idxmax()]

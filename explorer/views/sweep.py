@@ -75,7 +75,7 @@ def legend(table: pd.DataFrame) -> str:
 
 
 def render(sc, c: state.Controls, caching) -> None:
-    if sc.expansion is None or c.option not in state.couplings(sc):
+    if sc.expansion is None or c.option not in state.option_choices(sc):
         st.info("The scenario's [expansion] allows no option to sweep.")
         return
     left, mid, right = st.columns([2, 2, 1.3], vertical_alignment="bottom")
