@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -75,12 +76,13 @@ class _CellYear:
     sources: SourcePower
     results: metrics.YearTotals
 
-    @property
+    @cached_property
     def steps(self) -> pd.DataFrame:
+        """The per-step columns the checks read (made once per cell, on first use)."""
         site, s = self.site, self.sources
         return pd.DataFrame({"ac_backed_out_w": s.ac_backed.out_w, "ac_grid_out_w": s.ac_grid.out_w,
                              "load_backed_w": site.load_backed_w, "load_grid_only_w": site.load_grid_only_w,
-                             "grid_up": site.grid_up}, index=site.index)
+                             "grid_up": site.grid_up}, index=site.index, copy=False)
 
 
 def _row(sc: Scenario, option: str, layout: Layout, cell: _CellYear | None, base: _CellYear, base_checks: list,

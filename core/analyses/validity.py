@@ -25,15 +25,16 @@ def failed_rules(checks: Iterable, exported_uncontrolled_kwh: float) -> tuple[st
     return tuple(dict.fromkeys(ids))
 
 
-def why_set_aside(rules: Iterable[str], *, exported_uncontrolled_kwh: float = 0.0,
-                  exported_uncontrolled_hours: float = 0.0) -> str:
-    """The rules broken, in the options table's words: "uncontrolled export 344 kWh/yr in 120 h/yr" for a leak,
-    "fails check <id>" for a design check."""
+def why_set_aside(rules: Iterable[str], *, exported_uncontrolled_kwh: float | None = None,
+                  exported_uncontrolled_hours: float | None = None) -> str:
+    """The rules broken, in the options table's words: "uncontrolled export 344 kWh/yr in 120 h/yr" for a leak
+    (just "uncontrolled export" without the figures), "fails check <id>" for a design check."""
     parts = []
     for rule in rules:
         if rule == LEAK_RULE:
-            parts.append(f"uncontrolled export {exported_uncontrolled_kwh:,.0f} kWh/yr in "
-                         f"{exported_uncontrolled_hours:,.0f} h/yr")
+            parts.append("uncontrolled export" if exported_uncontrolled_kwh is None else
+                         f"uncontrolled export {exported_uncontrolled_kwh:,.0f} kWh/yr in "
+                         f"{exported_uncontrolled_hours or 0.0:,.0f} h/yr")
         else:
             parts.append(f"fails check {rule}")
     return "; ".join(parts)
