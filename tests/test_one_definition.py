@@ -154,3 +154,16 @@ def test_option_vocabulary_keeps_plain_spellings():
         assert added.coupling == "ac" and added.side == side
     # colours are keyed by option, one per option
     assert set(figures.OPTION_COLOURS) == set(OPTIONS) and len(set(figures.OPTION_COLOURS.values())) == 4
+
+
+def test_secondary_figures_read_the_year_totals():
+    # "AC-coupled PV used" and "Export within the limit" are year totals too: the same numbers from the step table
+    sc = hand_scenario(battery_kwh=1.0, initial_pct=50.0, reserve_pct=20.0, count=10)
+    site = synthetic_site(days=2, load_backed_w=300.0)
+    c = compare(sc, site=site, options=("ac_backed_up",))
+    sim, base = c.options["ac_backed_up"].simulation, c.options["baseline"].simulation
+    more = {h.key: h for h in figures.secondary_figures(sim, base)}
+    assert more["ac_harvest"].value == approx(figures.ac_harvest_kwh(sim.steps, sim.site.dt_h), rel=1e-12)
+    assert more["ac_harvest"].value > 1.0
+    kwh = float(sim.steps["export_allowed_w"].sum() * sim.site.dt_h / 1000.0)
+    assert more["exported_allowed"].value == approx(kwh, abs=1e-12)

@@ -22,9 +22,10 @@ ENERGY_KEYS = (
     "battery_losses", "stored_change", "balance_error", "pv_direct", "pv_to_battery", "ac_direct",
     "unserved_backed_up",
 )
-#: Further year figures (kWh) beside :data:`ENERGY_KEYS`, which the option deltas need: clipping per side,
-#: allowed export, and what the loads got from PV net of grid import (``loads_from_pv``).
-DETAIL_KEYS = ("clipped_dc", "clipped_ac", "exported_allowed", "loads_from_pv")
+#: Further year figures (kWh) beside :data:`ENERGY_KEYS`, which the option deltas and the headline need: clipping
+#: per side, allowed export, what the loads got from PV net of grid import (``loads_from_pv``) and the
+#: microinverter output taken by the loads or the charger (``ac_used``).
+DETAIL_KEYS = ("clipped_dc", "clipped_ac", "exported_allowed", "loads_from_pv", "ac_used")
 #: Every key of :func:`year_totals`' energies.
 TOTAL_KEYS = ENERGY_KEYS + DETAIL_KEYS
 #: Powers below this count as none when counting hours (W): rounding of the engine's sums.
@@ -122,6 +123,7 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     # the inverter), or stored. AC-coupled output serves the loads first, less the standing draw that
     # the controller keeps importing.
     ac_used = c["ac_backed_used_w"] + c["ac_grid_used_w"]
+    d["ac_used"] = ac_used
     d["ac_direct"] = np.minimum(ac_used, np.maximum(c["load_served_w"] - c["grid_import_standing_w"], 0.0))
     inverter_dc = c["inverter_ac_w"] + c["inverter_loss_w"]
     inv_share = np.divide(c["inverter_pv_dc_w"], inverter_dc, out=np.zeros(len(soc)), where=inverter_dc > 0)
@@ -317,7 +319,7 @@ def summarise_columns(c: Mapping[str, np.ndarray], *, months: MonthGroups, dt_h:
         "soc_share_by_decile": [float(x) for x in histogram / max(n, 1)],
         "min_soc_pct": float(soc_pct.min()) if len(soc_pct) else 0.0,
     }
-    ac_harvest = (c["ac_backed_used_w"] + c["ac_grid_used_w"]).sum()
+    ac_harvest = d["ac_used"].sum()
     surplus = ac_surplus_w(c["ac_backed_out_w"], c["ac_grid_out_w"], c["load_backed_w"], c["load_grid_only_w"],
                            up) > HOURS_EPS_W
     day = np.asarray(daylight, dtype=bool)

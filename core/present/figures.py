@@ -228,15 +228,13 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
     """Further figures of an option against the existing system (both :class:`core.simulate.SimulationResult`)."""
     r, b = sim.results, baseline_sim.results
     e, eb = r.energy_kwh, b.energy_kwh
-    dt_h, dt_b = sim.site.dt_h, baseline_sim.site.dt_h
     return [
         Headline("harvested", "PV harvested", "kWh/yr", e["harvested"], eb["harvested"], True,
                  help="module DC potential less curtailment and clipping"),
-        Headline("ac_harvest", "AC-coupled PV used", "kWh/yr", ac_harvest_kwh(sim.steps, dt_h),
-                 ac_harvest_kwh(baseline_sim.steps, dt_b), True,
+        Headline("ac_harvest", "AC-coupled PV used", "kWh/yr", e["ac_used"], eb["ac_used"], True,
                  help="microinverter output taken by the loads or the charger"),
-        Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported"] - e["exported_uncontrolled"],
-                 eb["exported"] - eb["exported_uncontrolled"], True, help="allowed export only"),
+        Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported_allowed"],
+                 eb["exported_allowed"], True, help="allowed export only"),
         Headline("unserved", "Unserved in outages", "kWh/yr", e["unserved"], eb["unserved"], False,
                  help="backed-up load that could not be served during grid outages"),
         Headline("cycles", "Battery cycles", "cycles/yr", r.battery.get("equivalent_full_cycles"),
@@ -269,7 +267,8 @@ def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.Data
 
 
 def ac_harvest_kwh(steps: pd.DataFrame, dt_h: float) -> float:
-    """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh)."""
+    """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh): the year total
+    ``ac_used`` of :func:`core.model.metrics.year_totals`, from a per-step table."""
     return float((steps["ac_backed_used_w"] + steps["ac_grid_used_w"]).sum() * dt_h / 1000.0)
 
 
