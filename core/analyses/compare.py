@@ -15,6 +15,10 @@ Why the options differ (the conversion chains, each step losing a little):
 * AC-coupled energy that neither loads nor battery can take is curtailed — or, without an export limiter,
   leaks into the grid (uncontrolled export), which a zero-export connection forbids; grid-side
   microinverters stop in an outage (anti-islanding).
+
+Only valid options are recommended (:mod:`core.analyses.validity`): one that fails a design check or leaks into
+the grid is set aside, and the verdict names it with the rules it breaks, in the options table's words. Every
+figure is :func:`core.model.metrics.delta` of two years; each option is priced for the modules it simulates.
 """
 
 from __future__ import annotations
@@ -42,8 +46,9 @@ from core.model import metrics
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
 
-__all__ = ["EXPORT_EPS_KWH", "TIE_KWH", "Comparison", "OptionResult", "Verdict", "added_modules", "compare",
-           "make_verdict", "option_delta", "option_economics", "priced_scenario"]
+__all__ = ["EXPORT_EPS_KWH", "LOADS_ROW", "TIE_KWH", "Chains", "Comparison", "OptionResult", "Verdict", "added_modules",
+           "compare", "conversion_chains", "make_verdict", "option_delta", "option_economics", "priced_scenario",
+           "set_aside_sentence"]
 #: Energy differences below this are "about the same" in the verdict, kWh a year.
 TIE_KWH = 1.0
 #: The words of the options table's first row (the page, the command line and the verdict say it the same way):

@@ -5,6 +5,11 @@ computed once (:class:`core.simulate.OrientationCache`), each variant's converte
 operations, and the variants go through the engine in batches in one compiled call each
 (:func:`core.model.dispatch.dispatch_many`). Each variant is reduced at once to a row of figures, so memory stays
 bounded at any time step. The result is a tidy table for heatmaps (one row per option × tilt × azimuth × count).
+
+The figures are those of compare, computed the same way (:func:`core.model.metrics.year_totals` and
+:func:`core.model.metrics.delta`); each cell also runs the design checks on its year, carries its validity (the
+rule ids it breaks, :mod:`core.analyses.validity`) and its economics. :func:`sweep_summary` points only at cells
+that pass.
 """
 
 from __future__ import annotations
