@@ -61,6 +61,8 @@ def test_red_dune_verdict_names_the_options_it_set_aside_in_the_tables_words():
         assert f"uncontrolled export {kwh}/yr" in said[0]
         assert table.loc["Passes every rule", r.label].startswith("no: uncontrolled export")
     assert table.loc["Passes every rule", "DC-coupled"] == "yes"
+    # what uncontrolled export is, and the usual fix, is said once, not once per option
+    assert c.verdict.text.count("Uncontrolled export is energy sent into a grid") == 1
 
 
 def test_no_option_passes_is_said_and_no_winner_is_named():

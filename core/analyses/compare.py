@@ -211,9 +211,6 @@ def set_aside_sentence(r: OptionResult) -> str:
                         exported_uncontrolled_hours=d["exported_uncontrolled_hours"])
     text = (f"Set aside: {r.label} ({why}), although it would give the loads {d['to_loads_added_kwh']:,.0f} "
             f"kWh/yr more from PV ({LOADS_ROW}).")
-    if LEAK_RULE in r.failed_rules:
-        text += (" Uncontrolled export is energy sent into a grid that may not take it: the connection forbids it; "
-                 "an export limiter (which curtails instead) or fewer panels is the usual fix.")
     for c in r.failed:
         if c.id != LEAK_RULE:
             text += f" {c.id}: {c.sentence}"
@@ -257,6 +254,9 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult], *, asked: int |
         reasons.append(head + ".")
     for k in sorted(blocked, key=gain, reverse=True):
         reasons.append(set_aside_sentence(results[k]))
+    if any(LEAK_RULE in results[k].failed_rules for k in blocked):
+        reasons.append("Uncontrolled export is energy sent into a grid that may not take it: the connection forbids "
+                       "it; an export limiter (which curtails instead) or fewer panels is the usual fix.")
     for k in others:
         r = results[k]
         if asked is not None and r.modules != asked:

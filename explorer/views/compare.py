@@ -82,7 +82,7 @@ def render(comparison, chosen: str):
         # the energy winner (or "no option passes"), the options set aside and the money winner are the answer;
         # the rest explains it
         first, *why = v.reasons or (v.text,)
-        shown = [r for r in why if r.startswith(("Set aside", "On money"))]
+        shown = [r for r in why if r.startswith(("Set aside", "Uncontrolled export is", "On money"))]
         why = [r for r in why if r not in shown]
         st.markdown(first)
         for r in shown:
