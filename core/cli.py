@@ -40,6 +40,7 @@ def format_year_table(result: dict) -> str:
     e = result["energy_kwh"]
     rows = [
         ("Load", e["load"]), ("  served", e["load_served"]), ("  unserved", e["unserved"]),
+        ("Loads supplied from PV", e["loads_from_pv"]),
         ("PV potential (module DC)", e["pv_potential"]), ("  DC-coupled arrays", e["pv_potential_dc"]),
         ("  AC-coupled arrays", e["pv_potential_ac"]), ("Harvested", e["harvested"]),
         ("Curtailed", e["curtailed"]), ("  DC-coupled", e["curtailed_dc"]), ("  AC-coupled", e["curtailed_ac"]),
