@@ -139,99 +139,6 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     return d
 
 
-@dataclass(frozen=True)
-class YearTotals:
-    """A year's energy figures (kWh, keys :data:`TOTAL_KEYS`) and hours (h) — what :func:`delta` compares."""
-
-    energy_kwh: dict[str, float]
-    hours: dict[str, float]
-
-
-def _hours(d: Mapping[str, np.ndarray], grid_up: np.ndarray, dt_h: float) -> dict[str, float]:
-    up = np.asarray(grid_up, dtype=bool)
-    return {
-        "export": hours_with(d["exported"], dt_h),
-        "export_uncontrolled": hours_with(d["exported_uncontrolled"], dt_h),
-        "outage": float(np.count_nonzero(~up) * dt_h),
-        "unserved": hours_with(d["unserved"], dt_h),
-        "unserved_backed_up": hours_with(d["unserved_backed_up"], dt_h),
-        "curtailment": hours_with(d["curtailed"], dt_h),
-    }
-
-
-def _totals(d: Mapping[str, np.ndarray], grid_up: np.ndarray, dt_h: float) -> YearTotals:
-    to_kwh = dt_h / 1000.0
-    return YearTotals(energy_kwh={k: float(d[k].sum() * to_kwh) for k in TOTAL_KEYS}, hours=_hours(d, grid_up, dt_h))
-
-
-def year_totals(c: Mapping[str, np.ndarray], *, dt_h: float, initial_wh: float) -> YearTotals:
-    """The year's energy figures (kWh) and hours from the per-step columns (:data:`INPUT_COLUMNS`, W).
-
-    The one place a year total is computed: :func:`summarise_columns` (a simulated year), the sweep (many
-    variants, reduced at once) and :func:`delta` (an option against the existing system) all read these.
-    """
-    return _totals(_derived(c, initial_wh=initial_wh, dt_h=dt_h), c["grid_up"], dt_h)
-
-
-#: Keys of :func:`delta`, kWh a year unless the name says otherwise.
-DELTA_KEYS = (
-    "expansion_potential_kwh", "to_loads_added_kwh", "grid_import_saved_kwh", "unserved_added_kwh",
-    "self_consumed_added_kwh", "harvested_added_kwh", "battery_charge_added_kwh", "battery_discharge_added_kwh",
-    "battery_cycles_added", "curtailed_added_kwh", "curtailed_dc_added_kwh", "curtailed_ac_added_kwh",
-    "clipped_added_kwh", "clipped_dc_added_kwh", "clipped_ac_added_kwh", "curtailed_share", "clipped_share",
-    "exported_added_kwh", "export_allowed_added_kwh", "exported_uncontrolled_kwh", "exported_uncontrolled_hours",
-    "exported_uncontrolled_added_kwh", "conversion_losses_added_kwh", "battery_losses_added_kwh",
-)
-
-
-def delta(base, option, *, expansion_potential_kwh: float = 0.0, usable_kwh: float = 0.0) -> dict[str, float]:
-    """An option's year against the existing system's (both :class:`YearTotals` or :class:`Results`).
-
-    The one definition of every "added" figure (keys :data:`DELTA_KEYS`):
-
-    * ``to_loads_added_kwh`` — the change in ``loads_from_pv`` (load served less grid import): grid import
-      saved plus load served in outages that was unserved before (the load itself is the same in both);
-    * ``self_consumed_added_kwh`` — harvested PV not exported, after Luthander et al., "Photovoltaic
-      self-consumption in buildings: a review", Applied Energy 142 (2015) 80–94;
-    * ``curtailed_share`` and ``clipped_share`` — the added curtailment and clipping as shares (0…1) of the new
-      panels' module energy ``expansion_potential_kwh``;
-    * ``exported_uncontrolled_kwh`` and ``…_hours`` — the option's own (not a difference): any is too much under
-      a zero-export connection.
-    """
-    b, o = base.energy_kwh, option.energy_kwh
-
-    def d(key: str) -> float:
-        return float(o[key] - b[key])
-
-    pot = float(expansion_potential_kwh)
-    return {
-        "expansion_potential_kwh": pot,
-        "to_loads_added_kwh": d("loads_from_pv"),
-        "grid_import_saved_kwh": -d("grid_import"),
-        "unserved_added_kwh": d("unserved"),
-        "self_consumed_added_kwh": d("harvested") - d("exported"),
-        "harvested_added_kwh": d("harvested"),
-        "battery_charge_added_kwh": d("battery_charge"),
-        "battery_discharge_added_kwh": d("battery_discharge"),
-        "battery_cycles_added": d("battery_discharge") / usable_kwh if usable_kwh > 0 else 0.0,
-        "curtailed_added_kwh": d("curtailed"),
-        "curtailed_dc_added_kwh": d("curtailed_dc"),
-        "curtailed_ac_added_kwh": d("curtailed_ac"),
-        "clipped_added_kwh": d("clipped"),
-        "clipped_dc_added_kwh": d("clipped_dc"),
-        "clipped_ac_added_kwh": d("clipped_ac"),
-        "curtailed_share": d("curtailed") / pot if pot > 0 else 0.0,
-        "clipped_share": d("clipped") / pot if pot > 0 else 0.0,
-        "exported_added_kwh": d("exported"),
-        "export_allowed_added_kwh": d("exported_allowed"),
-        "exported_uncontrolled_kwh": float(o["exported_uncontrolled"]),
-        "exported_uncontrolled_hours": float(option.hours["export_uncontrolled"]),
-        "exported_uncontrolled_added_kwh": d("exported_uncontrolled"),
-        "conversion_losses_added_kwh": d("conversion_losses"),
-        "battery_losses_added_kwh": d("battery_losses"),
-    }
-
-
 def derived_columns(steps: pd.DataFrame, *, initial_wh: float, dt_h: float) -> pd.DataFrame:
     """Per-step series of every energy figure (W), from the engine's flows and the PV potentials."""
     return pd.DataFrame(_derived(_arrays(steps), initial_wh=initial_wh, dt_h=dt_h), index=steps.index)
@@ -332,3 +239,97 @@ def summarise_columns(c: Mapping[str, np.ndarray], *, months: MonthGroups, dt_h:
     }
     return Results(energy_kwh=year, months=month_rows, ratios=ratios, hours=hours, battery=battery,
                    baseload=baseload, weather=weather or {})
+
+
+# ------------------------------------------------------------------------------------------------ totals
+@dataclass(frozen=True)
+class YearTotals:
+    """A year's energy figures (kWh, keys :data:`TOTAL_KEYS`) and hours (h) — what :func:`delta` compares."""
+
+    energy_kwh: dict[str, float]
+    hours: dict[str, float]
+
+
+def _hours(d: Mapping[str, np.ndarray], grid_up: np.ndarray, dt_h: float) -> dict[str, float]:
+    up = np.asarray(grid_up, dtype=bool)
+    return {
+        "export": hours_with(d["exported"], dt_h),
+        "export_uncontrolled": hours_with(d["exported_uncontrolled"], dt_h),
+        "outage": float(np.count_nonzero(~up) * dt_h),
+        "unserved": hours_with(d["unserved"], dt_h),
+        "unserved_backed_up": hours_with(d["unserved_backed_up"], dt_h),
+        "curtailment": hours_with(d["curtailed"], dt_h),
+    }
+
+
+def _totals(d: Mapping[str, np.ndarray], grid_up: np.ndarray, dt_h: float) -> YearTotals:
+    to_kwh = dt_h / 1000.0
+    return YearTotals(energy_kwh={k: float(d[k].sum() * to_kwh) for k in TOTAL_KEYS}, hours=_hours(d, grid_up, dt_h))
+
+
+def year_totals(c: Mapping[str, np.ndarray], *, dt_h: float, initial_wh: float) -> YearTotals:
+    """The year's energy figures (kWh) and hours from the per-step columns (:data:`INPUT_COLUMNS`, W).
+
+    The one place a year total is computed: :func:`summarise_columns` (a simulated year), the sweep (many
+    variants, reduced at once) and :func:`delta` (an option against the existing system) all read these.
+    """
+    return _totals(_derived(c, initial_wh=initial_wh, dt_h=dt_h), c["grid_up"], dt_h)
+
+
+#: Keys of :func:`delta`, kWh a year unless the name says otherwise.
+DELTA_KEYS = (
+    "expansion_potential_kwh", "to_loads_added_kwh", "grid_import_saved_kwh", "unserved_added_kwh",
+    "self_consumed_added_kwh", "harvested_added_kwh", "battery_charge_added_kwh", "battery_discharge_added_kwh",
+    "battery_cycles_added", "curtailed_added_kwh", "curtailed_dc_added_kwh", "curtailed_ac_added_kwh",
+    "clipped_added_kwh", "clipped_dc_added_kwh", "clipped_ac_added_kwh", "curtailed_share", "clipped_share",
+    "exported_added_kwh", "export_allowed_added_kwh", "exported_uncontrolled_kwh", "exported_uncontrolled_hours",
+    "exported_uncontrolled_added_kwh", "conversion_losses_added_kwh", "battery_losses_added_kwh",
+)
+
+
+def delta(base, option, *, expansion_potential_kwh: float = 0.0, usable_kwh: float = 0.0) -> dict[str, float]:
+    """An option's year against the existing system's (both :class:`YearTotals` or :class:`Results`).
+
+    The one definition of every "added" figure (keys :data:`DELTA_KEYS`):
+
+    * ``to_loads_added_kwh`` — the change in ``loads_from_pv`` (load served less grid import): grid import
+      saved plus load served in outages that was unserved before (the load itself is the same in both);
+    * ``self_consumed_added_kwh`` — harvested PV not exported, after Luthander et al., "Photovoltaic
+      self-consumption in buildings: a review", Applied Energy 142 (2015) 80–94;
+    * ``curtailed_share`` and ``clipped_share`` — the added curtailment and clipping as shares (0…1) of the new
+      panels' module energy ``expansion_potential_kwh``;
+    * ``exported_uncontrolled_kwh`` and ``…_hours`` — the option's own (not a difference): any is too much under
+      a zero-export connection.
+    """
+    b, o = base.energy_kwh, option.energy_kwh
+
+    def d(key: str) -> float:
+        return float(o[key] - b[key])
+
+    pot = float(expansion_potential_kwh)
+    return {
+        "expansion_potential_kwh": pot,
+        "to_loads_added_kwh": d("loads_from_pv"),
+        "grid_import_saved_kwh": -d("grid_import"),
+        "unserved_added_kwh": d("unserved"),
+        "self_consumed_added_kwh": d("harvested") - d("exported"),
+        "harvested_added_kwh": d("harvested"),
+        "battery_charge_added_kwh": d("battery_charge"),
+        "battery_discharge_added_kwh": d("battery_discharge"),
+        "battery_cycles_added": d("battery_discharge") / usable_kwh if usable_kwh > 0 else 0.0,
+        "curtailed_added_kwh": d("curtailed"),
+        "curtailed_dc_added_kwh": d("curtailed_dc"),
+        "curtailed_ac_added_kwh": d("curtailed_ac"),
+        "clipped_added_kwh": d("clipped"),
+        "clipped_dc_added_kwh": d("clipped_dc"),
+        "clipped_ac_added_kwh": d("clipped_ac"),
+        "curtailed_share": d("curtailed") / pot if pot > 0 else 0.0,
+        "clipped_share": d("clipped") / pot if pot > 0 else 0.0,
+        "exported_added_kwh": d("exported"),
+        "export_allowed_added_kwh": d("exported_allowed"),
+        "exported_uncontrolled_kwh": float(o["exported_uncontrolled"]),
+        "exported_uncontrolled_hours": float(option.hours["export_uncontrolled"]),
+        "exported_uncontrolled_added_kwh": d("exported_uncontrolled"),
+        "conversion_losses_added_kwh": d("conversion_losses"),
+        "battery_losses_added_kwh": d("battery_losses"),
+    }

@@ -147,17 +147,15 @@ def surplus_by_month_hour(steps: pd.DataFrame, base_load_w: np.ndarray | list | 
 def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
                         loads_w: pd.Series | None = None) -> pd.DataFrame:
     """Duration curve over the daylight steps: AC-coupled output minus the load at that moment (W), sorted
-    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``.
-
-    Without ``loads_w`` this is :func:`core.model.metrics.ac_surplus_w` (all loads); with it, the output
-    against those loads (the ones an option's output meets first)."""
-    if loads_w is None:
-        per_step = ac_surplus_w(steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"],
-                                steps["load_grid_only_w"], steps.get("grid_up"))
-    else:
-        ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
-        per_step = ac - np.asarray(loads_w, dtype=float)
+    from the highest down. Columns ``hours`` (cumulative daylight hours) and ``surplus_w``."""
+    ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
+    load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"], dtype=float)
     day = np.asarray(daylight, dtype=bool)
+    # Without loads_w this is the one definition of the AC surplus, core.model.metrics.ac_surplus_w (all loads;
+    # grid-side units stop in an outage); with it, the output against those loads (the ones an option meets first).
+    per_step = ac - load if loads_w is not None else ac_surplus_w(
+        steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"], steps["load_grid_only_w"],
+        steps.get("grid_up"))
     surplus = np.sort(per_step[day])[::-1]
     return pd.DataFrame({"hours": np.arange(1, len(surplus) + 1) * dt_h, "surplus_w": surplus})
 
