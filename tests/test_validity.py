@@ -18,9 +18,9 @@ from core.analyses.checks import Check
 from core.analyses.compare import compare
 from core.analyses.sweep import rule_counts, sweep, sweep_summary
 from core.analyses.validity import LEAK_RULE, failed_rules, why_set_aside
+from core.present.options_table import options_table
 from core.scenario import load_scenario
 from explorer.views import sweep as sweep_view
-from explorer.views.compare import options_table
 
 approx = pytest.approx
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_sites"
