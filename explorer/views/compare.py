@@ -37,7 +37,8 @@ def render(comparison, chosen: str):
                 for r in why:
                     st.markdown(f"- {r}")
     table = options_table(comparison)
-    st.dataframe(table, hide_index=True, width="stretch", height=36 * (len(table) + 1) + 3)
+    # Streamlit draws the header and every row 35 px high, plus 3 px of border: no blank row at the end
+    st.dataframe(table, hide_index=True, width="stretch", height=35 * (len(table) + 1) + 3)
     charts.draw(charts.options_chart(chart_frame(comparison)))
     st.caption(f"{LOADS_ROW} = grid import saved + load served in outages that went unserved before (the change in "
                "the headline's Loads supplied from PV). An option that fails a design check or sends energy into a "
