@@ -66,7 +66,7 @@ def upload_folder() -> Path:
 
 def settings_list(sc, c: state.Controls) -> list[tuple[str, str]]:
     """The what-if settings in words, for the report."""
-    rows = [("Coupling of the new panels", state.OPTION_CHOICE_LABELS.get(c.option, c.option)),
+    rows = [("Coupling of the new panels", state.COUPLING_LABELS.get(c.option, c.option)),
             ("Panels added", f"{c.count} × {c.module} ({sc.modules[c.module].pmax_w:,.0f} W STC)"),
             ("Tilt / azimuth", f"{c.tilt_deg:.0f}° / {c.azimuth_deg:.0f}° ({controls.compass(c.azimuth_deg)})")]
     if c.option != "dc" and c.microinverter:

@@ -9,7 +9,6 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
-from core.analyses.options import OPTION_LABELS
 from core.present import figures as palette
 from core.present.figures import MONTH_NAMES
 
@@ -27,6 +26,14 @@ def _legend(title: str, columns: int | None = None) -> alt.Legend:
 def _scale(colours: dict[str, str], present) -> alt.Scale:
     domain = [k for k in colours if k in set(present)]
     return alt.Scale(domain=domain, range=[colours[k] for k in domain])
+
+
+def option_scale(frame: pd.DataFrame, key: str = "option", label: str = "label") -> alt.Scale:
+    """Colours of the options named in ``frame[label]``, looked up by their option key in ``frame[key]``
+    (:data:`core.present.figures.OPTION_COLOURS`), so that a label's wording never changes its colour."""
+    pairs = dict(zip(frame[label], frame[key], strict=False))
+    return alt.Scale(domain=list(pairs), range=[palette.OPTION_COLOURS.get(str(k), palette.GREY)
+                                                for k in pairs.values()])
 
 
 def pv_destinations_chart(frame: pd.DataFrame) -> alt.Chart:
@@ -127,30 +134,22 @@ def surplus_duration_chart(frame: pd.DataFrame) -> alt.LayerChart:
     ).properties(width=WIDTH, height=HEIGHT)
 
 
-def option_scale(options) -> alt.Scale:
-    """Colours of the options present (keys such as ``"dc"``), from the palette keyed by option, over their labels."""
-    present = set(options)
-    keys = [k for k in palette.OPTION_COLOURS if k in present]
-    return alt.Scale(domain=[OPTION_LABELS[k] for k in keys], range=[palette.OPTION_COLOURS[k] for k in keys])
-
-
 def options_chart(frame: pd.DataFrame) -> alt.Chart:
     """Grouped bars of each option's change against the existing system (kWh/yr).
 
-    ``frame`` columns: ``option`` (key, e.g. ``"dc"``), ``figure`` (label) and ``kwh``; the option's label is
-    shown in words.
+    ``frame`` columns: ``option`` (key, for the colour), ``label`` (the option in words), ``figure`` (label) and
+    ``kwh``.
     """
-    frame = frame.assign(option_label=[OPTION_LABELS[k] for k in frame["option"]])
-    options = list(dict.fromkeys(frame["option_label"]))
+    options = list(dict.fromkeys(frame["label"]))
     return alt.Chart(frame, title=alt.Title("The options side by side",
                                             subtitle="change against the existing system (kWh per year)")).mark_bar(
     ).encode(
         x=alt.X("figure:N", title=None, sort=list(dict.fromkeys(frame["figure"])),
                 axis=alt.Axis(labelAngle=0, labelLimit=160)),
-        xOffset=alt.XOffset("option_label:N", sort=options),
+        xOffset=alt.XOffset("label:N", sort=options),
         y=alt.Y("kwh:Q", title="Change (kWh/yr)"),
-        color=alt.Color("option_label:N", scale=option_scale(frame["option"]), legend=_legend("Option")),
-        tooltip=[alt.Tooltip("option_label:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
+        color=alt.Color("label:N", scale=option_scale(frame), legend=_legend("Option")),
+        tooltip=[alt.Tooltip("label:N", title="Option"), alt.Tooltip("figure:N", title="Figure"),
                  alt.Tooltip("kwh:Q", title="Change (kWh/yr)", format=",.0f")],
     ).properties(width=WIDTH, height=HEIGHT)
 

@@ -180,16 +180,16 @@ def test_duration_and_options_and_outage_charts_have_units():
     daylight = (steps.index.hour >= 6) & (steps.index.hour < 18)
     d = _spec(charts.surplus_duration_chart(figures.ac_surplus_duration(steps, daylight, 1.0)))
     assert all(_has_unit(t) for t in _titles(d)) and len(_titles(d)) >= 2
-    options = pd.DataFrame({"option": ["dc", "ac_backed_up"] * 2,
-                            "figure": ["Loads supplied from PV, added"] * 2 + ["More curtailed"] * 2,
+    options = pd.DataFrame({"option": ["ac_backed_up", "dc"] * 2,
+                            "label": ["AC-coupled, backed-up side", "DC-coupled"] * 2,
+                            "figure": ["More to the loads from PV"] * 2 + ["More curtailed"] * 2,
                             "kwh": [400.0, 380.0, 120.0, 130.0]})
     o = _spec(charts.options_chart(options))
-    assert o["encoding"]["xOffset"]["field"] == "option_label"
+    assert o["encoding"]["xOffset"]["field"] == "label"
     assert o["encoding"]["y"]["title"] == "Change (kWh/yr)"
-    # colours keyed by option, shown by label: the legend is in words, each option keeps its palette colour
     scale = o["encoding"]["color"]["scale"]
     assert scale["domain"] == ["AC-coupled, backed-up side", "DC-coupled"]
-    assert scale["range"] == [figures.ORANGE, figures.BLUE]
+    assert scale["range"] == ["#E69F00", "#0072B2"]  # Okabe–Ito orange and blue
     steps.loc[steps.index[10:14], "grid_up"] = False
     out = _spec(charts.outage_chart(figures.outage_events(steps, 1.0, 10_000.0)))
     assert out["encoding"]["y"]["title"] == "Hours (h)"
@@ -211,25 +211,3 @@ def test_sweep_heatmap_marks_flagged_cells_and_frames_the_current_one():
     off = _spec(charts.sweep_heatmap(frame, x="azimuth_deg", x_title="Azimuth (°)",
                                      current={"count": 2, "azimuth_deg": 255}))
     assert [layer["mark"]["type"] for layer in off["layer"]] == ["rect", "circle", "text"]
-
-
-def test_sweep_heatmap_can_show_npv_centred_on_zero_and_names_the_broken_rule():
-    # NPV changes sign where the panels stop paying: a diverging map centred on 0 (blue below, orange above)
-    # keeps "does not pay" apart from "pays" (common practice for signed quantities).
-    frame = pd.DataFrame({"count": [0, 1, 2, 3], "azimuth_deg": [180] * 4, "npv": [0.0, 350.0, 120.0, -480.0],
-                          "flag": ["", "", "X", "C1"],
-                          "failed_checks": ["", "", "ac_coupling.uncontrolled_export", "strings.vmp_hot"]})
-    spec = _spec(charts.sweep_heatmap(frame, x="azimuth_deg", x_title="Azimuth (°)", value="npv",
-                                      value_title="NPV (USD)"))
-    colour = spec["layer"][0]["encoding"]["color"]
-    assert colour["field"] == "npv" and colour["title"] == "NPV (USD)"
-    assert colour["scale"]["domainMid"] == 0 and colour["scale"]["domain"] == [-480.0, 480.0]
-    assert colour["scale"]["scheme"] == figures.DIVERGING_SCHEME
-    tips = {t["field"]: t["title"] for t in spec["layer"][0]["encoding"]["tooltip"]}
-    assert tips["failed_checks"] == "Set aside: breaks"
-    texts = spec["datasets"][spec["layer"][2]["data"]["name"]]
-    assert sorted(r["flag"] for r in texts) == ["C1", "X"]
-    # an energy value keeps the sequential map
-    energy = _spec(charts.sweep_heatmap(frame.assign(self_consumed_added_kwh=[0, 1, 2, 3]), x="azimuth_deg",
-                                        x_title="Azimuth (°)"))
-    assert energy["layer"][0]["encoding"]["color"]["scale"]["scheme"] == figures.SEQUENTIAL_SCHEME

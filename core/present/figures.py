@@ -13,7 +13,6 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from core.analyses.options import Option
 from core.model.metrics import ac_surplus_w
 
 # ---------------------------------------------------------------------------------------------- colours
@@ -48,12 +47,13 @@ SERIES_COLOURS = {
     "Battery SOC": BLUISH_GREEN,
 }
 
-#: The expansion options, keyed by option (not by label text, so a reworded label keeps its colour).
+#: The expansion options, keyed by option (``core.analyses.options.OPTIONS``), never by their label: one mapping
+#: for every chart that tells the options apart.
 OPTION_COLOURS = {
-    Option.BASELINE: GREY,
-    Option.AC_BACKED_UP: ORANGE,
-    Option.AC_GRID: VERMILLION,
-    Option.DC: BLUE,
+    "baseline": GREY,
+    "ac_backed_up": ORANGE,
+    "ac_grid": VERMILLION,
+    "dc": BLUE,
 }
 
 #: Check outcomes.

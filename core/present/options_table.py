@@ -33,6 +33,12 @@ def _years(x: float | None) -> str:
     return fmt_years(math.inf if x is None else x)
 
 
+def _kwh(x: float, *, signed: bool) -> str:
+    """An energy difference; none at all is "0 kWh", not "+0 kWh"."""
+    text = fmt_kwh(x, signed=signed)
+    return text[1:] if text.startswith("+0 ") else text
+
+
 def _passes(r) -> str:
     """"yes", or "no: " and the rules broken in the verdict's words (the figures are in the rows above)."""
     return "yes" if r.valid else "no: " + why_set_aside(r.failed_rules)
@@ -43,8 +49,8 @@ def options_table(comparison) -> pd.DataFrame:
     opts = [k for k in comparison.options if k != "baseline"]
     rows = []
     for key, label in ENERGY_ROWS:
-        rows.append([label + " (kWh/yr)", *[fmt_kwh(comparison.options[k].delta[key], signed=key != "exported_uncontrolled_kwh")
-                                            for k in opts]])
+        rows.append([label + " (kWh/yr)", *[_kwh(comparison.options[k].delta[key],
+                                                 signed=key != "exported_uncontrolled_kwh") for k in opts]])
     rows.append(["Hours with uncontrolled export (h/yr)",
                  *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
     rows.append(["More battery cycles (per year)",
@@ -65,5 +71,5 @@ def options_table(comparison) -> pd.DataFrame:
 
 def chart_frame(comparison) -> pd.DataFrame:
     labels = dict(ENERGY_ROWS)
-    return pd.DataFrame([{"option": str(k), "figure": labels[key], "kwh": r.delta[key]}
+    return pd.DataFrame([{"option": k, "label": OPTION_LABELS[k], "figure": labels[key], "kwh": r.delta[key]}
                          for k, r in comparison.options.items() if k != "baseline" for key in CHART_ROWS])
