@@ -52,6 +52,7 @@ def format_year_table(result: dict) -> str:
     e = result["energy_kwh"]
     rows = [
         ("Load", e["load"]), ("  served", e["load_served"]), ("  unserved", e["unserved"]),
+        ("Loads supplied from PV", e["loads_from_pv"]),
         ("PV potential (module DC)", e["pv_potential"]), ("  DC-coupled arrays", e["pv_potential_dc"]),
         ("  AC-coupled arrays", e["pv_potential_ac"]), ("Harvested", e["harvested"]),
         ("Curtailed", e["curtailed"]), ("  DC-coupled", e["curtailed_dc"]), ("  AC-coupled", e["curtailed_ac"]),
@@ -183,7 +184,7 @@ def format_comparison(comparison: dict) -> str:
     keys = [k for k in ("baseline", "ac_backed_up", "ac_grid", "dc") if k in opts]
     cur = comparison["currency"]
     rows = [
-        ("Loads get from PV, added", lambda o: o["delta"]["to_loads_added_kwh"], "kWh"),
+        ("Loads supplied from PV, added", lambda o: o["delta"]["to_loads_added_kwh"], "kWh"),
         ("Grid import saved", lambda o: o["delta"]["grid_import_saved_kwh"], "kWh"),
         ("Self-consumed PV added", lambda o: o["delta"]["self_consumed_added_kwh"], "kWh"),
         ("New panels' potential", lambda o: o["delta"]["expansion_potential_kwh"], "kWh"),
@@ -219,6 +220,9 @@ def format_comparison(comparison: dict) -> str:
             else:
                 cells.append(f"{0.0 if abs(v) < 0.5 else v:>{col}.0f}")
         lines.append(f"{name + ' (' + unit + ')':<{width}}" + "".join(cells))
+    # whether each option may be recommended (the verdict names the rules it breaks)
+    lines.append(f"{'Passes every rule':<{width}}" + "".join(
+        f"{'—' if k == 'baseline' else ('yes' if opts[k].get('valid', True) else 'no'):>{col}}" for k in keys))
     lines.append("")
     for reason in comparison["verdict"]["reasons"] or [comparison["verdict"]["text"]]:
         lines += textwrap.wrap(reason, width=100, initial_indent="- ", subsequent_indent="  ")

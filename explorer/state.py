@@ -15,14 +15,18 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from core.analyses.options import OPTION_LABELS, applicable_options, layout_of
+from core.analyses.options import EXPANSION_OPTIONS, OPTION_LABELS, Option, applicable_options, layout_of
 from core.errors import InputError
 from core.files import write_atomic
 from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
 
-#: The couplings the explorer offers for the new panels (the options other than the existing system).
-COUPLINGS = ("ac_backed_up", "ac_grid", "dc")
-COUPLING_LABELS = {k: OPTION_LABELS[k] for k in COUPLINGS}
+#: The options the explorer offers for the new panels (every option but the existing system). An *option* is how
+#: the new panels join the system; an array's ``coupling`` is only "ac" or "dc" (see the glossary in DEVELOPERS.md).
+OPTION_CHOICES = EXPANSION_OPTIONS
+OPTION_CHOICE_LABELS = {k: OPTION_LABELS[k] for k in OPTION_CHOICES}
+# Earlier names, kept so that code written against them keeps working.
+COUPLINGS = OPTION_CHOICES
+COUPLING_LABELS = OPTION_CHOICE_LABELS
 
 OUTAGE_MODES = ("none", "scenario", "random")
 OUTAGE_LABELS = {"none": "No outages", "scenario": "As in the scenario file", "random": "Random outages"}
@@ -37,7 +41,7 @@ MAX_UPLOAD_BYTES = 40 * 1024 * 1024
 class Controls:
     """Every what-if setting on the page, in the scenario's units."""
 
-    option: str  # one of COUPLINGS
+    option: str  # one of OPTION_CHOICES (an Option)
     count: int
     tilt_deg: float
     azimuth_deg: float
@@ -54,10 +58,13 @@ class Controls:
     outage_mean_hours: float
 
 
-def couplings(sc: Scenario) -> tuple[str, ...]:
-    """The couplings the scenario's ``[expansion]`` allows, in display order."""
+def option_choices(sc: Scenario) -> tuple[str, ...]:
+    """The options the scenario's ``[expansion]`` allows, in display order (plain strings, as widgets keep them)."""
     allowed = applicable_options(sc)
-    return tuple(o for o in COUPLINGS if o in allowed)
+    return tuple(o.value for o in OPTION_CHOICES if o in allowed)
+
+
+couplings = option_choices  # the earlier name
 
 
 def outage_modes(sc: Scenario) -> tuple[str, ...]:
@@ -72,19 +79,22 @@ def panel_count_max(sc: Scenario) -> int:
     return int(max(12, 3 * count))
 
 
-def default_coupling(sc: Scenario) -> str | None:
-    """The coupling the page shows first: the scenario's own, else the first the scenario allows."""
-    allowed = couplings(sc)
+def default_option(sc: Scenario) -> str | None:
+    """The option the page shows first: the scenario's own (``[expansion] coupling``), else the first allowed."""
+    allowed = option_choices(sc)
     if sc.expansion is not None and sc.expansion.coupling in allowed:
         return sc.expansion.coupling
     return allowed[0] if allowed else None
 
 
+default_coupling = default_option  # the earlier name
+
+
 def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
     """The controls that reproduce the scenario as it is (``option`` defaults to the scenario's own coupling,
     else the first allowed one)."""
-    if option not in couplings(sc):
-        option = default_coupling(sc) or "ac_backed_up"
+    if option not in option_choices(sc):
+        option = default_option(sc) or Option.AC_BACKED_UP.value
     lay = layout_of(sc)
     e, b, g = sc.expansion, sc.battery, sc.grid
     random = g.random_outages
@@ -103,8 +113,8 @@ def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
 
 def check_controls(sc: Scenario, c: Controls) -> None:
     """Settings that cannot work together, named as the page names them."""
-    if c.option not in couplings(sc):
-        raise InputError(f"the coupling {COUPLING_LABELS.get(c.option, c.option)!r} needs more information in "
+    if c.option not in option_choices(sc):
+        raise InputError(f"the option {OPTION_CHOICE_LABELS.get(c.option, c.option)!r} needs more information in "
                          "the scenario's [expansion]", where="Coupling",
                          hint="AC-coupled options need a microinverter, the DC-coupled one a controller and a battery")
     if c.module not in sc.modules:
@@ -132,7 +142,7 @@ def apply_controls(sc: Scenario, c: Controls) -> Scenario:
         e = dataclasses.replace(e.priced_for(c.count), tilt_deg=float(c.tilt_deg), azimuth_deg=float(c.azimuth_deg),
                                 module=c.module, microinverter=micro,
                                 # written only when it says more than the default choice (so a file reloads equal)
-                                coupling=c.option if e.coupling is not None or c.option != default_coupling(sc) else None)
+                                coupling=c.option if e.coupling is not None or c.option != default_option(sc) else None)
     b = sc.battery
     if b is not None and c.battery_kwh is not None:
         b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),
@@ -191,7 +201,7 @@ def scenario_download(sc: Scenario, option: str, today: dt.date | None = None) -
     names = ", ".join(p.name for p in data_files(sc)) or "none"
     head = (f"# {sc.name}: saved from the secondroof explorer on {(today or dt.date.today()).isoformat()}.\n"
             f"# Keep it in one folder with the data files it names: {names}.\n")
-    if "expansion" in table and option in COUPLINGS:
+    if "expansion" in table and option in OPTION_CHOICES:
         table["expansion"]["coupling"] = option
     return head + tomli_w.dumps(table)
 

@@ -65,7 +65,7 @@ def test_energy_identity_holds_every_step_and_for_the_year(case):
     f = {name: r[name] for name in FLOWS}
     previous = np.concatenate([[p.initial_wh], f["soc_wh"][:-1]])
     stored_change_w = (f["soc_wh"] - previous) / p.dt_h
-    curtailed = f["curtailed_dc_w"] + f["curtailed_acb_w"] + f["curtailed_acg_w"]
+    curtailed = f["curtailed_dc_w"] + f["curtailed_ac_backed_w"] + f["curtailed_ac_grid_w"]
     conversion = (f["controller_loss_w"] + f["ac_backed_conversion_loss_w"] + f["ac_grid_conversion_loss_w"] + f["inverter_loss_w"]
                   + f["idle_w"] + f["charger_loss_w"])
     left = potential + f["grid_import_w"]

@@ -261,9 +261,9 @@ def test_typical_day_shows_what_the_panels_could_make_and_what_was_lost():
     sun = steps["dc_out_w"] / 1000.0
     steps["pv_potential_dc_w"] = 1100.0 * sun
     steps["pv_potential_ac_w"] = 450.0 * sun
-    for col in ("curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w", "clipped_dc_w"):
+    for col in ("curtailed_dc_w", "curtailed_ac_backed_w", "curtailed_ac_grid_w", "clipped_dc_w"):
         steps[col] = 0.0
-    steps["curtailed_acb_w"] = 30.0 * sun
+    steps["curtailed_ac_backed_w"] = 30.0 * sun
     steps["clipped_dc_w"] = 20.0 * sun
     steps["clipped_ac_w"] = 0.0
     day = figures.typical_day(steps, 6, usable_wh=10_000.0)

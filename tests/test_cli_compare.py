@@ -38,13 +38,45 @@ def test_compare_json_on_the_sample_site(capsys):
         assert o["delta"]["grid_import_saved_kwh"] == approx(base["grid_import"] - o["simulate"]["energy_kwh"]["grid_import"])
         assert o["economics"]["currency"] == "USD"
     v = data["verdict"]
-    assert v["energy"] in data["options"] and v["money"] in data["options"] and v["text"]
+    assert v["text"]
+    valid = [k for k, o in data["options"].items() if k != "baseline" and o["valid"]]
+    for o in data["options"].values():
+        assert o["valid"] == (not o["failed_checks"])
+    if valid:
+        assert v["energy"] in valid and v["money"] in valid
+    else:
+        # no option may be recommended: the verdict says so, names no winner, and sets aside every option
+        assert v["energy"] is None and v["money"] is None and "No option passes" in v["text"]
+        assert v["text"].count("Set aside:") == len(data["options"]) - 1
+
+
+def test_compare_prices_the_modules_it_simulates(capsys):
+    # Maple Hollow's expansion strings 2 modules in series. Whatever layout the DC option builds for 3 new
+    # modules, compare must price the modules it simulates: the file's cost_dc is for its own count, scaled per
+    # module (Expansion.priced_for), and the new panels' potential scales with the same count (same orientation).
+    # Today parallel strings on one input must be equal (common practice) and 3 forms one whole string of 2.
+    from core.scenario import load_scenario
+
+    sc = load_scenario(SAMPLE)
+    code, out, _ = run(capsys, "compare", SAMPLE, "--count", "3", "--json")
+    data = json.loads(out)
+    dc, ac = data["options"]["dc"], data["options"]["ac_backed_up"]
+    assert ac["modules"] == 3 and 1 <= dc["modules"] <= 3
+    assert dc["economics"]["investment"] == approx(sc.expansion.cost_dc * dc["modules"] / sc.expansion.count,
+                                                   abs=0.01)
+    assert ac["economics"]["investment"] == approx(sc.expansion.cost_ac * 3 / sc.expansion.count, abs=0.01)
+    assert dc["delta"]["expansion_potential_kwh"] == approx(ac["delta"]["expansion_potential_kwh"] * dc["modules"] / 3,
+                                                            rel=1e-9)
+    said = f"{dc['modules']} new modules are simulated and priced, not 3"
+    assert (said in data["verdict"]["text"]) == (dc["modules"] != 3)
 
 
 def test_compare_text_output(capsys):
     code, out, _ = run(capsys, "compare", SAMPLE, "--count", "1")
     assert code == 0
-    assert "Grid import saved (kWh)" in out and "NPV (USD)" in out and "On money" in out
+    assert "Grid import saved (kWh)" in out and "NPV (USD)" in out and "Passes every rule" in out
+    # the verdict names a winner on money only among options that pass, or says that none passes
+    assert "On money" in out or "No option passes" in out
 
 
 def test_check_json_on_the_sample_site(capsys):

@@ -108,7 +108,7 @@ def test_surplus_beyond_the_charger_is_curtailed_by_a_limiter():
     # Same step with an AC export limiter: the 200 W is curtailed at the microinverters instead.
     f = step(lb=300.0, acb=1000.0, p=params(charger_rating_w=500.0, limiter=True))
     assert f["export_uncontrolled_w"] == 0.0
-    assert f["curtailed_acb_w"] == approx(200.0)
+    assert f["curtailed_ac_backed_w"] == approx(200.0)
     assert f["ac_backed_used_w"] == approx(800.0)
     assert f["grid_import_w"] == approx(0.0)
 
@@ -125,7 +125,7 @@ def test_export_allowed_up_to_the_limit():
     p = params(initial_wh=10_000.0, export_allowed=True, export_limit_w=100.0)
     f = step(lb=300.0, acb=1000.0, p=dataclasses.replace(p, limiter=True))
     assert f["export_allowed_w"] == approx(100.0)
-    assert f["curtailed_acb_w"] == approx(600.0)
+    assert f["curtailed_ac_backed_w"] == approx(600.0)
     assert f["export_uncontrolled_w"] == 0.0
     f = step(lb=300.0, acb=1000.0, p=p)
     assert f["export_allowed_w"] == approx(100.0)
@@ -187,8 +187,8 @@ def test_outage_surplus_is_curtailed_by_frequency_watt_and_grid_side_pv_stops():
     # stored, so the inverter-charger shifts frequency and the micros curtail it. Grid-side micros
     # (400 W) stop by anti-islanding: curtailed too. Nothing is exported.
     f = step(lb=300.0, acb=800.0, acg=400.0, up=False, p=params(initial_wh=10_000.0))
-    assert f["curtailed_acb_w"] == approx(500.0)
-    assert f["curtailed_acg_w"] == approx(400.0)
+    assert f["curtailed_ac_backed_w"] == approx(500.0)
+    assert f["curtailed_ac_grid_w"] == approx(400.0)
     assert f["export_uncontrolled_w"] == 0.0
     assert f["load_served_w"] == approx(300.0)
 
@@ -211,7 +211,7 @@ def test_idle_draw_that_cannot_be_met_in_an_outage_switches_the_inverter_off():
     # loads are unserved and the backed-up micros (200 W) stop with it.
     f = step(lb=100.0, acb=200.0, up=False, p=params(initial_wh=500.0, idle_w=30.0))
     assert f["unserved_w"] == approx(100.0)
-    assert f["curtailed_acb_w"] == approx(200.0)
+    assert f["curtailed_ac_backed_w"] == approx(200.0)
     assert f["idle_w"] == 0.0
 
 

@@ -15,6 +15,10 @@ Why the options differ (the conversion chains, each step losing a little):
 * AC-coupled energy that neither loads nor battery can take is curtailed — or, without an export limiter,
   leaks into the grid (uncontrolled export), which a zero-export connection forbids; grid-side
   microinverters stop in an outage (anti-islanding).
+
+Only valid options are recommended (:mod:`core.analyses.validity`): one that fails a design check or leaks into
+the grid is set aside, and the verdict names it with the rules it breaks, in the options table's words. Every
+figure is :func:`core.model.metrics.delta` of two years; each option is priced for the modules it simulates.
 """
 
 from __future__ import annotations
@@ -26,22 +30,37 @@ from dataclasses import dataclass
 import numpy as np
 
 from core.analyses.checks import check_options
-from core.analyses.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
+from core.analyses.options import (
+    EXPANSION_ARRAY,
+    OPTION_LABELS,
+    Layout,
+    Option,
+    applicable_options,
+    layout_of,
+    with_option,
+)
+from core.analyses.validity import EXPORT_EPS_KWH, LEAK_RULE, why_set_aside
+from core.analyses.validity import failed_rules as _failed_rules
 from core.model import economics as econ
+from core.model import metrics
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
 
-#: Uncontrolled export below this counts as none (rounding of the engine's sums), kWh a year.
-EXPORT_EPS_KWH = 1e-3
+__all__ = ["EXPORT_EPS_KWH", "LOADS_ROW", "TIE_KWH", "Chains", "Comparison", "OptionResult", "Verdict", "added_modules",
+           "compare", "conversion_chains", "make_verdict", "option_delta", "option_economics", "priced_scenario",
+           "set_aside_sentence"]
 #: Energy differences below this are "about the same" in the verdict, kWh a year.
 TIE_KWH = 1.0
+#: The words of the options table's first row (the page, the command line and the verdict say it the same way):
+#: :func:`core.model.metrics.delta`'s ``to_loads_added_kwh``, the change in loads served less grid import.
+LOADS_ROW = "Loads supplied from PV, added"
 
 
 @dataclass(frozen=True)
 class OptionResult:
     """One option's year, its difference from the existing system and its economics (None for the baseline)."""
 
-    option: str
+    option: Option
     label: str
     scenario: Scenario
     simulation: SimulationResult
@@ -49,15 +68,28 @@ class OptionResult:
     economics: econ.Economics | None
     # Design checks whose outcome this option changes (for the baseline: the existing system's own).
     checks: tuple = ()
+    # New modules actually simulated and priced (a DC string layout may hold fewer than the count asked for).
+    modules: int = 0
 
     @property
     def failed(self) -> tuple:
         return tuple(c for c in self.checks if c.status == "fail")
 
+    @property
+    def failed_rules(self) -> tuple[str, ...]:
+        """Ids of the rules this option breaks: failing design checks, and uncontrolled export."""
+        return _failed_rules(self.checks, self.delta["exported_uncontrolled_kwh"])
+
+    @property
+    def valid(self) -> bool:
+        """Whether the option may be recommended: it passes every design check and leaks nothing into the grid."""
+        return not self.failed_rules
+
     def to_dict(self) -> dict:
         return {"label": self.label, "simulate": self.simulation.results.to_dict(), "delta": self.delta,
                 "economics": None if self.economics is None else self.economics.to_dict(),
-                "checks": [c.to_dict() for c in self.checks]}
+                "checks": [c.to_dict() for c in self.checks], "modules": self.modules, "valid": self.valid,
+                "failed_checks": list(self.failed_rules)}
 
 
 @dataclass(frozen=True)
@@ -88,60 +120,32 @@ class Comparison:
 
 
 # ------------------------------------------------------------------------------------------------ figures
-def _step_kwh(sim: SimulationResult, column: str) -> float:
-    return float(sim.steps[column].sum() * sim.site.dt_h / 1000.0)
-
-
 def option_delta(base: SimulationResult, opt: SimulationResult) -> dict[str, float]:
-    """The option's difference from the existing system (kWh a year unless the key says otherwise).
-
-    ``to_loads_added_kwh`` is what the loads get from PV in addition: grid import saved plus load served in
-    outages that was unserved before. ``self_consumed_added_kwh`` follows Luthander et al. (2015): harvested
-    PV not exported.
-    """
-    b, o = base.results.energy_kwh, opt.results.energy_kwh
-
-    def d(key: str) -> float:
-        return float(o[key] - b[key])
-
-    saved = float(b["grid_import"] - o["grid_import"])
-    unserved_avoided = float(b["unserved"] - o["unserved"])
-    expansion = opt.sources.per_array_dc_w.get("expansion")
+    """The option's difference from the existing system: :func:`core.model.metrics.delta` of the two years,
+    with the new panels' module energy (kWh a year) and the battery's usable size for the cycles."""
+    expansion = opt.sources.per_array_dc_w.get(EXPANSION_ARRAY)
     potential = 0.0 if expansion is None else float(np.sum(expansion) * opt.site.dt_h / 1000.0)
-    clipped_dc = _step_kwh(opt, "clipped_dc_w") - _step_kwh(base, "clipped_dc_w")
-    clipped_ac = _step_kwh(opt, "clipped_ac_w") - _step_kwh(base, "clipped_ac_w")
-    export_allowed = _step_kwh(opt, "export_allowed_w") - _step_kwh(base, "export_allowed_w")
     usable = opt.scenario.battery.usable_kwh if opt.scenario.battery else 0.0
-    return {
-        "expansion_potential_kwh": potential,
-        "to_loads_added_kwh": saved + unserved_avoided,
-        "grid_import_saved_kwh": saved,
-        "unserved_added_kwh": -unserved_avoided,
-        "self_consumed_added_kwh": d("harvested") - d("exported"),
-        "harvested_added_kwh": d("harvested"),
-        "battery_charge_added_kwh": d("battery_charge"),
-        "battery_discharge_added_kwh": d("battery_discharge"),
-        "battery_cycles_added": d("battery_discharge") / usable if usable > 0 else 0.0,
-        "curtailed_added_kwh": d("curtailed"),
-        "curtailed_dc_added_kwh": d("curtailed_dc"),
-        "curtailed_ac_added_kwh": d("curtailed_ac"),
-        "clipped_added_kwh": d("clipped"),
-        "clipped_dc_added_kwh": clipped_dc,
-        "clipped_ac_added_kwh": clipped_ac,
-        "exported_added_kwh": d("exported"),
-        "export_allowed_added_kwh": export_allowed,
-        "exported_uncontrolled_kwh": float(o["exported_uncontrolled"]),
-        "exported_uncontrolled_hours": float(opt.results.hours["export_uncontrolled"]),
-        "exported_uncontrolled_added_kwh": d("exported_uncontrolled"),
-        "conversion_losses_added_kwh": d("conversion_losses"),
-        "battery_losses_added_kwh": d("battery_losses"),
-    }
+    return metrics.delta(base.results, opt.results, expansion_potential_kwh=potential, usable_kwh=usable)
+
+
+def added_modules(sc_option: Scenario) -> int:
+    """New modules in a scenario with an option applied: the modules of its expansion array (0 for the baseline)."""
+    return sum(a.module_count for a in sc_option.arrays if a.name == EXPANSION_ARRAY)
+
+
+def priced_scenario(sc: Scenario, modules: int) -> Scenario:
+    """The scenario with its expansion's costs scaled to the modules actually simulated."""
+    return sc if sc.expansion is None else sc.replace(expansion=sc.expansion.priced_for(modules))
 
 
 def option_economics(sc: Scenario, option: str, delta: dict[str, float]) -> econ.Economics:
-    """The option's economics from its first-year difference (paid export only; uncontrolled export earns nothing)."""
+    """The option's economics from its first-year difference (paid export only; uncontrolled export earns nothing).
+
+    ``sc`` must be priced for the modules simulated (:func:`priced_scenario`).
+    """
     t, e = sc.tariff, sc.expansion
-    investment = 0.0 if e is None else (e.cost_dc if option == "dc" else e.cost_ac)
+    investment = 0.0 if e is None else (e.cost_dc if option == Option.DC else e.cost_ac)
     paid_export = delta["export_allowed_added_kwh"] if sc.grid.export_allowed else 0.0
     return econ.appraise(investment=investment, import_avoided_kwh=delta["grid_import_saved_kwh"],
                          export_added_kwh=paid_export, import_price_per_kwh=t.import_price_per_kwh,
@@ -200,73 +204,78 @@ def _pct(x: float) -> str:
     return f"{x * 100:.1f} %"
 
 
-def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
-    """Which option wins on energy (what the loads get from PV) and on money (NPV), and why."""
-    others = [k for k in results if k != "baseline"]
+def set_aside_sentence(r: OptionResult) -> str:
+    """Why an option that breaks a rule is set aside, in the options table's words, with what it would have given."""
+    d = r.delta
+    why = why_set_aside(r.failed_rules, exported_uncontrolled_kwh=d["exported_uncontrolled_kwh"],
+                        exported_uncontrolled_hours=d["exported_uncontrolled_hours"])
+    text = (f"Set aside: {r.label} ({why}), although it would give the loads {d['to_loads_added_kwh']:,.0f} "
+            f"kWh/yr more from PV ({LOADS_ROW}).")
+    for c in r.failed:
+        if c.id != LEAK_RULE:
+            text += f" {c.id}: {c.sentence}"
+    return text
+
+
+def make_verdict(sc: Scenario, results: dict[str, OptionResult], *, asked: int | None = None) -> Verdict:
+    """Which valid option wins on energy (loads supplied from PV, added) and on money (NPV), and why.
+
+    Only valid options are named winners (:attr:`OptionResult.valid`); every option set aside is named with the
+    rules it breaks, and when none is valid the verdict says so and names no winner. ``asked``: the panel count
+    asked for, when an option may simulate fewer (whole DC strings); it is then said.
+    """
+    others = [k for k in results if k != Option.BASELINE]
     if not others:
         return Verdict(None, None, "There is no expansion to compare: add an [expansion] section.", ())
     cur = sc.tariff.currency
-    reasons: list[str] = []
-    base = results["baseline"].simulation
+    base = results[Option.BASELINE].simulation
     chains = conversion_chains(sc, base)
-    leaking = [k for k in others if results[k].delta["exported_uncontrolled_kwh"] > EXPORT_EPS_KWH]
-    # An option that leaks into the grid or fails a design check cannot win while another does neither.
-    failing = {k: [c for c in results[k].failed if c.id != "ac_coupling.uncontrolled_export"] for k in others}
-    blocked = [k for k in others if k in leaking or failing[k]]
-    allowed = [k for k in others if k not in blocked] or others
-    for k in leaking:
-        d = results[k].delta
-        reasons.append(f"{OPTION_LABELS[k]} sends {d['exported_uncontrolled_kwh']:.0f} kWh into the grid uncontrolled "
-                       f"in {d['exported_uncontrolled_hours']:.0f} hours of the year, which the connection forbids; "
-                       "it needs an export limiter (which curtails instead) or fewer panels.")
-    for k in others:
-        for c in failing[k]:
-            reasons.append(f"{OPTION_LABELS[k]} fails a design check ({c.id}): {c.sentence}")
+    allowed = [k for k in others if results[k].valid]
+    blocked = [k for k in others if not results[k].valid]
 
     def gain(k: str) -> float:
         return results[k].delta["to_loads_added_kwh"]
 
-    ranked = sorted(allowed, key=gain, reverse=True)
-    energy = ranked[0]
-    de = results[energy].delta
-    none_pass = all(k in blocked for k in others)
-
-    def set_aside(k: str) -> str:
-        """Why an option was set aside, in the words of the options table and the design checks."""
-        why = []
-        if k in leaking:
-            why.append(f"Uncontrolled export {results[k].delta['exported_uncontrolled_kwh']:,.0f} kWh/yr, which "
-                       "a zero-export connection forbids")
-        why += [f"FAIL {c.subject or c.id} ({c.id})" for c in failing[k]]
-        return (f"{OPTION_LABELS[k]}: More to the loads from PV {gain(k):+,.0f} kWh/yr, but "
-                + "; ".join(why))
-
-    # The head names every option it set aside and why, so that it never contradicts the table beside it.
-    head = ("No option passes as it stands — " + ". ".join(set_aside(k) for k in blocked)
-            + ". On energy, before any fix, " if none_pass else "On energy, ")
-    head += f"{OPTION_LABELS[energy]} wins: More to the loads from PV {de['to_loads_added_kwh']:+,.0f} kWh/yr"
-    if len(ranked) > 1:
-        runner = ranked[1]
-        diff = gain(energy) - gain(runner)
-        head += (f", {diff:.0f} kWh more than {OPTION_LABELS[runner]}" if diff > TIE_KWH
-                 else f", about the same as {OPTION_LABELS[runner]}")
-    if blocked and not none_pass:
-        head += ". Set aside — " + ". ".join(set_aside(k) for k in blocked)
-    reasons.insert(0, head + ".")
+    reasons: list[str] = []
+    energy = money = None
+    if not allowed:
+        reasons.append(f"No option passes as it stands: each of the {len(others)} options breaks a rule (below), so "
+                       "none is recommended.")
+    else:
+        ranked = sorted(allowed, key=gain, reverse=True)
+        energy = ranked[0]
+        head = (f"On energy, {OPTION_LABELS[energy]} wins among the options that pass: the loads get "
+                f"{gain(energy):,.0f} kWh/yr more from PV ({LOADS_ROW})")
+        if len(ranked) > 1:
+            runner = ranked[1]
+            diff = gain(energy) - gain(runner)
+            head += (f", {diff:,.0f} kWh/yr more than {OPTION_LABELS[runner]}" if diff > TIE_KWH
+                     else f", about the same as {OPTION_LABELS[runner]}")
+        reasons.append(head + ".")
+    for k in sorted(blocked, key=gain, reverse=True):
+        reasons.append(set_aside_sentence(results[k]))
+    if any(LEAK_RULE in results[k].failed_rules for k in blocked):
+        reasons.append("Uncontrolled export is energy sent into a grid that may not take it: the connection forbids "
+                       "it; an export limiter (which curtails instead) or fewer panels is the usual fix.")
+    for k in others:
+        r = results[k]
+        if asked is not None and r.modules != asked:
+            reasons.append(f"{OPTION_LABELS[k]}: {r.modules} new modules are simulated and priced, not {asked}: "
+                           "parallel strings on one controller input must be of equal length, so only whole strings "
+                           "are added (common practice).")
     # why: the conversion chains, and how much AC-coupled output was used as it was made
-    ac_allowed = [k for k in allowed if k.startswith("ac_") and k not in leaking]
     if chains.ac_direct is not None and chains.dc_direct is not None:
         why = (f"AC-coupled energy used in daytime skips the battery and one conversion: the microinverter alone "
                f"({_pct(chains.ac_direct)}) against controller and inverter ({_pct(chains.dc_direct)}); stored "
                f"AC-coupled energy takes three conversions and the battery (microinverter, charger, battery, "
                f"inverter: {_pct(chains.ac_stored)}) against {_pct(chains.dc_stored)} for stored DC-coupled energy.")
-        ac_opts = [k for k in others if k.startswith("ac_")]
+        ac_opts = [k for k in others if Option(k).is_ac]
         if ac_opts:
             share = results[ac_opts[0]].simulation.results.baseload.get("ac_direct_share")
             if share is not None:
                 why += f" Here {_pct(share)} of the AC-coupled output is used by the loads as it is made."
         reasons.append(why)
-        if energy == "dc" and ac_allowed:
+        if energy == Option.DC and any(Option(k).is_ac for k in allowed):
             reasons.append("DC-coupling wins here because too much of the new panels' output cannot be used as it is "
                            "made: stored, DC-coupled energy takes one conversion fewer, and a DC-coupled array is "
                            "throttled at its controller instead of being curtailed on the AC side.")
@@ -274,19 +283,21 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
         d = results[k].delta
         lost = d["curtailed_added_kwh"] + d["clipped_added_kwh"]
         if d["expansion_potential_kwh"] > 0 and lost > 0.05 * d["expansion_potential_kwh"]:
-            reasons.append(f"With {OPTION_LABELS[k]} the system curtails or clips {lost:.0f} kWh a year more "
+            reasons.append(f"With {OPTION_LABELS[k]} the system curtails or clips {lost:,.0f} kWh/yr more "
                            f"({_pct(lost / d['expansion_potential_kwh'])} of the new panels' potential): the loads "
                            "and the battery cannot take it all.")
-    # money: the best NPV among the allowed options
-    money = max(allowed, key=lambda k: results[k].economics.npv)
-    m = results[money].economics
-    pay = ("does not pay back within the analysis period" if m.simple_payback_years is None
-           else f"pays back in {m.simple_payback_years:.1f} years (discounted: "
-                + ("not within the period" if m.discounted_payback_years is None
-                   else f"{m.discounted_payback_years:.1f} years") + ")")
-    reasons.append(f"On money,{' before any fix,' if none_pass else ''} {OPTION_LABELS[money]} wins: it saves {m.annual_saving:.0f} {cur} in the first year "
-                   f"for {m.investment:.0f} {cur}, {pay}, with an NPV of {m.npv:.0f} {cur} over {m.years} years"
-                   + (f" and an IRR of {_pct(m.irr)}." if m.irr is not None else "."))
+    # money: the best NPV among the valid options
+    if allowed:
+        money = max(allowed, key=lambda k: results[k].economics.npv)
+        m = results[money].economics
+        pay = ("does not pay back within the analysis period" if m.simple_payback_years is None
+               else f"pays back in {m.simple_payback_years:.1f} years (discounted: "
+                    + ("not within the period" if m.discounted_payback_years is None
+                       else f"{m.discounted_payback_years:.1f} years") + ")")
+        reasons.append(f"On money, {OPTION_LABELS[money]} wins among the options that pass: it saves "
+                       f"{m.annual_saving:,.0f} {cur} in the first year for {m.investment:,.0f} {cur}, {pay}, with an "
+                       f"NPV of {m.npv:,.0f} {cur} over {m.years} years"
+                       + (f" and an IRR of {_pct(m.irr)}." if m.irr is not None else "."))
     return Verdict(energy=energy, money=money, text=" ".join(reasons), reasons=tuple(reasons))
 
 
@@ -298,10 +309,10 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
 
     ``layout`` overrides the ``[expansion]`` count, tilt and azimuth; ``options`` limits the options (the
     baseline is always included). ``site`` and ``cache`` reuse earlier work; one of each serves all options.
+    Each option is priced for the new modules it actually simulates (:func:`added_modules`).
     """
     layout = layout or layout_of(sc)
-    priced = sc if sc.expansion is None else sc.replace(expansion=sc.expansion.priced_for(layout.count))
-    chosen = [o for o in applicable_options(sc) if options is None or o == "baseline" or o in options]
+    chosen = [o for o in applicable_options(sc) if options is None or o == Option.BASELINE or o in options]
     if progress:
         progress(0.0, "weather and loads")
     site = site or prepare_site(sc)
@@ -313,21 +324,22 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
             progress(0.1 + 0.9 * i / len(chosen), OPTION_LABELS[option])
         sc_o = with_option(sc, option, layout)
         sim = simulate(sc_o, site, cache)
-        if option == "baseline":
+        modules = added_modules(sc_o)
+        if option == Option.BASELINE:
             base_sim = sim
             delta = option_delta(sim, sim)
             economics = None
         else:
             delta = option_delta(base_sim, sim)
-            economics = option_economics(priced, option, delta)
-        results[option] = OptionResult(option=option, label=OPTION_LABELS[option], scenario=sc_o, simulation=sim,
-                                       delta=delta, economics=economics)
+            economics = option_economics(priced_scenario(sc, modules), option, delta)
+        results[option] = OptionResult(option=Option(option), label=OPTION_LABELS[option], scenario=sc_o,
+                                       simulation=sim, delta=delta, economics=economics, modules=modules)
     if progress:
         progress(1.0, "done")
     # Design checks whose outcome each option changes; they can keep an option from winning.
     found = check_options(sc, layout=layout, sims={k: r.simulation for k, r in results.items()}, site=site,
                           cache=cache, options=tuple(results))
     results = {k: dataclasses.replace(r, checks=tuple(found.get(k, ()))) for k, r in results.items()}
-    verdict = (make_verdict(priced, results) if layout.count > 0 else
+    verdict = (make_verdict(sc, results, asked=layout.count) if layout.count > 0 else
                Verdict(None, None, "No panels are added (a count of 0): every option is the existing system.", ()))
     return Comparison(scenario=sc, layout=layout, options=results, verdict=verdict)

@@ -12,17 +12,51 @@ from __future__ import annotations
 import dataclasses
 import math
 from dataclasses import dataclass
+from enum import StrEnum
 
 from core.errors import InputError
 from core.scenario import Array, Scenario
 
-OPTIONS = ("baseline", "ac_backed_up", "ac_grid", "dc")
+
+class Option(StrEnum):
+    """The expansion options. Members are strings (``Option.DC == "dc"``), so JSON, scenario files
+    (``[expansion] coupling``) and the command line keep their plain spellings."""
+
+    BASELINE = "baseline"
+    AC_BACKED_UP = "ac_backed_up"
+    AC_GRID = "ac_grid"
+    DC = "dc"
+
+    @property
+    def label(self) -> str:
+        return OPTION_LABELS[self]
+
+    @property
+    def is_ac(self) -> bool:
+        return self in (Option.AC_BACKED_UP, Option.AC_GRID)
+
+
+OPTIONS = tuple(Option)
+#: The options that add panels (every option but the existing system), in display order.
+EXPANSION_OPTIONS = (Option.AC_BACKED_UP, Option.AC_GRID, Option.DC)
 OPTION_LABELS = {
-    "baseline": "Existing system",
-    "ac_backed_up": "AC-coupled, backed-up side",
-    "ac_grid": "AC-coupled, grid side",
-    "dc": "DC-coupled",
+    Option.BASELINE: "Existing system",
+    Option.AC_BACKED_UP: "AC-coupled, backed-up side",
+    Option.AC_GRID: "AC-coupled, grid side",
+    Option.DC: "DC-coupled",
 }
+#: An AC-coupled option's array side (``Array.side``): the project spells the group ``ac_backed`` in flows and
+#: fields, ``ac_backed_up`` as an option and ``backed_up`` as an array's side.
+AC_SIDES = {Option.AC_BACKED_UP: "backed_up", Option.AC_GRID: "grid"}
+
+
+def as_option(value: str, *, where: str = "option") -> Option:
+    """``value`` as an :class:`Option`, or an input error that lists the spellings."""
+    try:
+        return Option(value)
+    except ValueError:
+        raise InputError(f"unknown option {value!r}", where=where,
+                         hint=f"one of {', '.join(o.value for o in Option)}") from None
 EXPANSION_ARRAY = "expansion"
 
 
@@ -46,12 +80,12 @@ def applicable_options(sc: Scenario) -> tuple[str, ...]:
     """The options the scenario's ``[expansion]`` gives enough information for."""
     e = sc.expansion
     if e is None:
-        return ("baseline",)
-    out = ["baseline"]
+        return (Option.BASELINE,)
+    out = [Option.BASELINE]
     if e.microinverter is not None:
-        out += ["ac_backed_up", "ac_grid"]
+        out += [Option.AC_BACKED_UP, Option.AC_GRID]
     if e.controller is not None and sc.battery is not None:
-        out.append("dc")
+        out.append(Option.DC)
     return tuple(out)
 
 
@@ -97,9 +131,8 @@ def dc_layout_note(count: int, modules_per_string: int | None) -> str | None:
 
 def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scenario:
     """The scenario with the expansion added as the given option (``baseline`` returns it unchanged)."""
-    if option not in OPTIONS:
-        raise InputError(f"unknown option {option!r}", where="option", hint=f"one of {', '.join(OPTIONS)}")
-    if option == "baseline":
+    option = as_option(option)
+    if option == Option.BASELINE:
         return sc
     e = sc.expansion
     if e is None:
@@ -110,10 +143,10 @@ def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scen
         return sc
     common = dict(name=EXPANSION_ARRAY, module=e.module, tilt_deg=float(lay.tilt_deg),
                   azimuth_deg=float(lay.azimuth_deg), mount=e.mount, losses_pct=e.losses_pct, row_pitch_m=e.row_pitch_m)
-    if option in ("ac_backed_up", "ac_grid"):
+    if option.is_ac:
         if e.microinverter is None:
             raise InputError("the AC-coupled option needs a microinverter", where="expansion.microinverter")
-        array = Array(coupling="ac", side="backed_up" if option == "ac_backed_up" else "grid",
+        array = Array(coupling="ac", side=AC_SIDES[option],
                       microinverter=e.microinverter, modules=int(lay.count), **common)
     else:
         if e.controller is None:

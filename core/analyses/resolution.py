@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 
 from core.analyses.options import Layout, applicable_options, layout_of, with_option
+from core.model import metrics
 from core.model.metrics import Results
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
@@ -49,11 +50,13 @@ class ResolutionCheck:
 
 
 def ac_surplus(steps: pd.DataFrame, dt_h: float) -> dict[str, float]:
-    """AC-coupled output above the loads, before the battery or any curtailment takes it:
-    ``max(0, H_acb + H_acg − L_b − L_g)`` per step — energy (kWh), hours and the largest step mean (W)."""
-    s = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"] - steps["load_backed_w"] - steps["load_grid_only_w"]).to_numpy()
+    """AC-coupled output above the loads, before the battery or any curtailment takes it: the positive part of
+    :func:`core.model.metrics.ac_surplus_w` (all loads; grid-side units stop in an outage) — energy (kWh), hours
+    and the largest step mean (W)."""
+    s = metrics.ac_surplus_w(steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"],
+                             steps["load_grid_only_w"], steps.get("grid_up"))
     pos = np.maximum(s, 0.0)
-    return {"ac_surplus_kwh": float(pos.sum() * dt_h / 1000.0), "ac_surplus_hours": float((pos > 1e-6).sum() * dt_h),
+    return {"ac_surplus_kwh": float(pos.sum() * dt_h / 1000.0), "ac_surplus_hours": metrics.hours_with(pos, dt_h),
             "ac_surplus_peak_w": float(pos.max()) if pos.size else 0.0}
 
 

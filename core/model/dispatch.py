@@ -47,7 +47,7 @@ FLOWS = (
     "soc_wh",  # stored energy at the end of the step
     "load_served_w", "unserved_w",
     "grid_import_w", "grid_import_standing_w", "export_allowed_w", "export_uncontrolled_w",
-    "curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w",  # module side: DC never converted
+    "curtailed_dc_w", "curtailed_ac_backed_w", "curtailed_ac_grid_w",  # module side: DC never converted
     "controller_loss_w", "ac_backed_conversion_loss_w", "ac_grid_conversion_loss_w",  # losses on the harvested part
     "inverter_loss_w", "idle_w", "charger_loss_w",
     "battery_charge_w", "battery_discharge_w", "battery_loss_w",  # bus side of the battery

@@ -177,12 +177,16 @@ def options_chart(frame: pd.DataFrame) -> alt.Chart:
 
 def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "self_consumed_added_kwh",
                   value_title: str = "Added self-consumed energy (kWh/yr)", flag: str | None = "flag",
-                  current: dict | None = None) -> alt.LayerChart:
+                  current: dict | None = None, failed: str | None = "failed_checks",
+                  centre_zero: bool | None = None) -> alt.LayerChart:
     """Panel count × orientation heatmap of ``value``; cells with a non-empty ``flag`` get its letters.
 
-    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (short text such as "C" or "X").
-    ``current`` ({"count": n, x: v}) frames one cell, the setting in use.
+    ``frame`` columns: ``count``, ``x``, ``value`` and optionally ``flag`` (short text such as "C" or "X") and
+    ``failed`` (the rule ids an invalid cell breaks, shown in its tooltip). ``current`` ({"count": n, x: v})
+    frames one cell, the setting in use. ``centre_zero`` colours on a diverging map centred on 0, for a value
+    whose sign matters (an NPV: below zero the panels do not pay); by default it is on for ``value == "npv"``.
     """
+    centre = (value == "npv") if centre_zero is None else centre_zero
     base = alt.Chart(frame).encode(
         x=alt.X(f"{x}:O", title=x_title, axis=alt.Axis(labelAngle=0)),
         y=alt.Y("count:O", title="Panels added", sort="descending"))
@@ -190,8 +194,15 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "se
                alt.Tooltip(f"{value}:Q", title=value_title, format=",.0f")]
     if flag and flag in frame:
         tooltip.append(alt.Tooltip(f"{flag}:N", title="Marked"))
+    if failed and failed in frame:
+        tooltip.append(alt.Tooltip(f"{failed}:N", title="Set aside: breaks"))
+    if centre:
+        limit = float(max(frame[value].abs().max(), 1.0)) if len(frame) else 1.0
+        scale = alt.Scale(scheme=palette.DIVERGING_SCHEME, domain=[-limit, limit], domainMid=0)
+    else:
+        scale = alt.Scale(scheme=palette.SEQUENTIAL_SCHEME)
     cells = base.mark_rect().encode(
-        color=alt.Color(f"{value}:Q", title=value_title, scale=alt.Scale(scheme=palette.SEQUENTIAL_SCHEME),
+        color=alt.Color(f"{value}:Q", title=value_title, scale=scale,
                         legend=alt.Legend(orient="right", gradientLength=220, titleLimit=260)),
         tooltip=tooltip)
     layers = [cells]
@@ -210,8 +221,7 @@ def sweep_heatmap(frame: pd.DataFrame, *, x: str, x_title: str, value: str = "se
             x=alt.X(f"{x}:O"), y=alt.Y("count:O", sort="descending")))
     return alt.layer(*layers, title=alt.Title(
         f"{value_title.split(' (')[0]} by panel count and {x_title.split(' (')[0].lower()}",
-        subtitle="against the existing system; C = more than a quarter of the new panels' output curtailed or "
-                 "clipped, X = uncontrolled export")
+        subtitle="against the existing system; marked cells: see the legend below the chart")
     ).properties(width=WIDTH, height=HEIGHT)
 
 

@@ -13,6 +13,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from core.model.metrics import ac_surplus_w
+
 # ---------------------------------------------------------------------------------------------- colours
 # The Okabe–Ito palette, distinguishable under the common colour-vision deficiencies (Okabe & Ito, "Color
 # Universal Design", 2008; openly published). One meaning, one colour, in the explorer and the HTML report.
@@ -146,7 +148,7 @@ def typical_day(steps: pd.DataFrame, month: int, *, usable_wh: float,
     })
     if "pv_potential_dc_w" in part:
         frame["What the panels could make"] = (part["pv_potential_dc_w"] + part["pv_potential_ac_w"]).to_numpy()
-        lost = [c for c in ("curtailed_dc_w", "curtailed_acb_w", "curtailed_acg_w", "clipped_dc_w", "clipped_ac_w")
+        lost = [c for c in ("curtailed_dc_w", "curtailed_ac_backed_w", "curtailed_ac_grid_w", "clipped_dc_w", "clipped_ac_w")
                 if c in part]
         frame["Curtailed or clipped"] = part[lost].sum(axis=1).to_numpy()
     if usable_wh > 0:
@@ -220,7 +222,12 @@ def ac_surplus_duration(steps: pd.DataFrame, daylight: np.ndarray, dt_h: float,
     ac = (steps["ac_backed_out_w"] + steps["ac_grid_out_w"]).to_numpy()
     load = np.asarray(loads_w if loads_w is not None else steps["load_backed_w"] + steps["load_grid_only_w"], dtype=float)
     day = np.asarray(daylight, dtype=bool)
-    surplus = np.sort((ac - load)[day])[::-1]
+    # Without loads_w this is the one definition of the AC surplus, core.model.metrics.ac_surplus_w (all loads;
+    # grid-side units stop in an outage); with it, the output against those loads (the ones an option meets first).
+    per_step = ac - load if loads_w is not None else ac_surplus_w(
+        steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"], steps["load_grid_only_w"],
+        steps.get("grid_up"))
+    surplus = np.sort(per_step[day])[::-1]
     return pd.DataFrame({"hours": np.arange(1, len(surplus) + 1) * dt_h, "surplus_w": surplus})
 
 
@@ -245,12 +252,16 @@ class Headline:
 
 
 def loads_from_pv_kwh(energy_kwh: dict) -> float:
-    """Energy delivered to the loads that did not come from the grid (kWh): loads served − grid import.
+    """Energy delivered to the loads that did not come from the grid (kWh): loads served − grid import, the year
+    total ``loads_from_pv`` of :func:`core.model.metrics.year_totals`.
 
     Grid import that fed conversion losses or the battery is subtracted too, so this is a conservative figure
-    for what PV (directly or through the battery) gave the loads.
+    for what PV (directly or through the battery) gave the loads. It is not floored at zero, so that the
+    headline's change is exactly the options table's "Loads supplied from PV, added".
     """
-    return max(energy_kwh["load_served"] - energy_kwh["grid_import"], 0.0)
+    if "loads_from_pv" in energy_kwh:
+        return float(energy_kwh["loads_from_pv"])
+    return float(energy_kwh["load_served"] - energy_kwh["grid_import"])
 
 
 def headline_figures(results, baseline, *, payback_years: float | None = None,
@@ -264,7 +275,8 @@ def headline_figures(results, baseline, *, payback_years: float | None = None,
 
     return [
         Headline("loads_from_pv", "Loads supplied from PV", "kWh/yr", loads_from_pv_kwh(e), loads_from_pv_kwh(b),
-                 True, help="loads served minus grid import, over the year"),
+                 True, help="loads served minus all grid import, over the year; its change is the options "
+                            "table's \"Loads supplied from PV, added\""),
         Headline("curtailed", "Curtailed", "kWh/yr", e["curtailed"], b["curtailed"], False,
                  help="PV energy the controllers or the frequency-watt response held back"),
         Headline("clipped", "Clipped", "kWh/yr", e["clipped"], b["clipped"], False,
@@ -285,15 +297,13 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
     """Further figures of an option against the existing system (both :class:`core.simulate.SimulationResult`)."""
     r, b = sim.results, baseline_sim.results
     e, eb = r.energy_kwh, b.energy_kwh
-    dt_h, dt_b = sim.site.dt_h, baseline_sim.site.dt_h
     return [
         Headline("harvested", "PV harvested", "kWh/yr", e["harvested"], eb["harvested"], True,
                  help="module DC potential less curtailment and clipping"),
-        Headline("ac_harvest", "AC-coupled PV used", "kWh/yr", ac_harvest_kwh(sim.steps, dt_h),
-                 ac_harvest_kwh(baseline_sim.steps, dt_b), True,
+        Headline("ac_harvest", "AC-coupled PV used", "kWh/yr", e["ac_used"], eb["ac_used"], True,
                  help="microinverter output taken by the loads or the charger"),
-        Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported"] - e["exported_uncontrolled"],
-                 eb["exported"] - eb["exported_uncontrolled"], True, help="allowed export only"),
+        Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported_allowed"],
+                 eb["exported_allowed"], True, help="allowed export only"),
         Headline("unserved", "Unserved in outages", "kWh/yr", e["unserved"], eb["unserved"], False,
                  help="backed-up load that could not be served during grid outages"),
         Headline("cycles", "Battery cycles", "cycles/yr", r.battery.get("equivalent_full_cycles"),
@@ -342,7 +352,8 @@ def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.Data
 
 
 def ac_harvest_kwh(steps: pd.DataFrame, dt_h: float) -> float:
-    """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh)."""
+    """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh): the year total
+    ``ac_used`` of :func:`core.model.metrics.year_totals`, from a per-step table."""
     return float((steps["ac_backed_used_w"] + steps["ac_grid_used_w"]).sum() * dt_h / 1000.0)
 
 

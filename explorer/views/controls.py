@@ -46,7 +46,7 @@ def render(sc: Scenario) -> state.Controls:
     d = state.controls_from_scenario(sc)
     ss = st.session_state
     st.header("What if…")
-    allowed = state.couplings(sc)
+    allowed = state.option_choices(sc)
     e = sc.expansion
     if e is None or not allowed:
         st.info("The scenario has no usable [expansion] section: only the existing system is shown. Add one with "
@@ -56,7 +56,7 @@ def render(sc: Scenario) -> state.Controls:
         st.subheader("New panels")
         if ss.get("c_option") not in allowed:
             ss["c_option"] = allowed[0]
-        option = st.radio("Coupling", allowed, format_func=state.COUPLING_LABELS.get, key="c_option",
+        option = st.radio("Coupling", allowed, format_func=state.OPTION_CHOICE_LABELS.get, key="c_option",
                           help="AC-coupled: on microinverters, on the backed-up side of the inverter-charger (they "
                           "keep running in an outage) or on the grid side (they stop in an outage). DC-coupled: on "
                           f"the charge controller {e.controller!r} (shared with any arrays already on it).")

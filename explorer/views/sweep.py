@@ -1,52 +1,82 @@
-"""The sweep: panel count × azimuth or tilt for the chosen coupling, as a heatmap of added self-consumed energy."""
+"""The sweep: panel count × azimuth or tilt for the chosen option, as a heatmap of added self-consumed energy or NPV.
+
+Every cell carries its validity (core.analyses.sweep): a cell that breaks a rule is marked with the rule's code
+and named in its tooltip, and the summary points only at cells that pass.
+"""
 
 from __future__ import annotations
 
-import numpy as np
 import pandas as pd
 import streamlit as st
 
+from core.analyses.compare import LOADS_ROW
 from core.analyses.options import OPTION_LABELS
-from core.analyses.sweep import sweep
-from core.present.figures import fmt_kwh
+from core.analyses.sweep import rule_counts, sweep, sweep_summary
+from core.analyses.validity import LEAK_RULE
 from explorer import caching, charts, state
 
 #: A cell is marked "C" when the added curtailment and clipping exceed this share of the new panels' potential
-#: (a quarter: our own choice, to mark where the new panels mostly displace other PV), "X" when any uncontrolled
-#: export happens.
+#: (a quarter: our own choice, to mark where the new panels mostly displace other PV). A cell that breaks a rule
+#: is marked with the rule's code (:func:`rule_codes`) and is set aside.
 LOST_SHARE = 0.25
-EXPORT_KWH = 0.5
 AZIMUTHS = tuple(range(90, 271, 15))
 TILTS = tuple(range(0, 91, 10))
 
 
-def flags(table: pd.DataFrame) -> pd.Series:
-    """The marker letters of each sweep row: C (curtailed or clipped), X (uncontrolled export), both, or none."""
+def rule_codes(table: pd.DataFrame) -> dict[str, str]:
+    """A short code per rule broken somewhere in the table: "X" for uncontrolled export, "1", "2", … for the
+    failing design checks, most often broken first."""
+    codes, n = {}, 0
+    for rule in rule_counts(table):
+        if rule == LEAK_RULE:
+            codes[rule] = "X"
+        else:
+            n += 1
+            codes[rule] = str(n)
+    return codes
+
+
+def flags(table: pd.DataFrame, codes: dict[str, str] | None = None) -> pd.Series:
+    """The markers of each sweep row: C (curtailed or clipped) followed by the codes of the rules it breaks."""
+    codes = rule_codes(table) if codes is None else codes
     lost = (table["curtailed_share"] + table["clipped_share"]) > LOST_SHARE
-    leak = table["uncontrolled_export_kwh"] > EXPORT_KWH
-    return pd.Series(np.where(lost & leak, "CX", np.where(lost, "C", np.where(leak, "X", ""))), index=table.index)
+    marks = [("C" if c else "") + "".join(codes[r] for r in filter(None, str(f).split(", ")))
+             for c, f in zip(lost, table["failed_checks"], strict=True)]
+    return pd.Series(marks, index=table.index, dtype=object)
 
 
-#: What the cells' colour can show: (column of the heat frame, legend title).
-COLOUR_BY = {
-    "self_consumed_added_kwh": "Added self-consumed energy (kWh/yr)",
-    "to_loads_added_kwh": "More to the loads from PV (kWh/yr)",
-    "lost_pct": "New panels' output curtailed or clipped (%)",
-}
+def colour_by(currency: str) -> dict[str, str]:
+    """What the cells' colour can show: (column of the heat frame, legend title)."""
+    return {
+        "self_consumed_added_kwh": "Added self-consumed energy (kWh/yr)",
+        "to_loads_added_kwh": f"{LOADS_ROW} (kWh/yr)",
+        "npv": f"NPV ({currency})" if currency else "NPV",
+        "lost_pct": "New panels' output curtailed or clipped (%)",
+    }
 
 
 def heat_frame(table: pd.DataFrame, axis: str) -> pd.DataFrame:
     out = table[["count", axis, "self_consumed_added_kwh", "to_loads_added_kwh", "curtailed_share",
-                 "uncontrolled_export_kwh"]].copy()
+                 "exported_uncontrolled_kwh", "npv", "valid", "failed_checks"]].copy()
     out["lost_pct"] = (table["curtailed_share"] + table["clipped_share"]).clip(lower=0.0) * 100.0
     out[axis] = out[axis].round(0).astype(int)
     out["flag"] = flags(table)
     return out
 
 
+def legend(table: pd.DataFrame) -> str:
+    """The markers in words: C, and each rule code with its rule id."""
+    parts = [f"C: added curtailment and clipping above {LOST_SHARE:.0%} of the new panels' potential."]
+    for rule, code in rule_codes(table).items():
+        what = "uncontrolled export into a grid that may not be fed" if rule == LEAK_RULE else "fails the design check"
+        parts.append(f"{code}: {what} ({rule}) — set aside.")
+    parts.append("The framed cell is the sidebar's setting.")
+    return " ".join(parts)
+
+
 def render(m) -> None:
     sc, option, lay = m.scenario, m.option, m.comparison.layout
-    if sc.expansion is None or option not in state.couplings(sc):
+    if sc.expansion is None or option not in state.option_choices(sc):
         st.info("The scenario's [expansion] allows no option to sweep.")
         return
     count_max = state.panel_count_max(sc)
@@ -61,9 +91,9 @@ def render(m) -> None:
     values = AZIMUTHS if axis == "azimuth_deg" else TILTS
     fixed = (f"tilt {lay.tilt_deg:.0f}°" if axis == "azimuth_deg" else f"azimuth {lay.azimuth_deg:.0f}°")
     key = caching.site_key(sc) + repr((option, axis, counts, lay.tilt_deg, lay.azimuth_deg, sc.battery, sc.grid,
-                                       sc.expansion))
+                                       sc.tariff, sc.expansion))
     run = right.button("Run the sweep", type="primary", key="sweep_run")
-    st.caption(f"{OPTION_LABELS[option]} (the sidebar's coupling), {fixed} fixed, {len(counts)} counts × "
+    st.caption(f"{OPTION_LABELS[option]} (the sidebar's option), {fixed} fixed, {len(counts)} counts × "
                f"{len(values)} {'azimuths' if axis == 'azimuth_deg' else 'tilts'} = {len(counts) * len(values)} "
                "simulated years.")
     stored = st.session_state.get("sweep_result")
@@ -89,20 +119,9 @@ def render(m) -> None:
     title = "Azimuth (°)" if axis == "azimuth_deg" else "Tilt (°)"
     frame = heat_frame(table, axis)
     current = {"count": lay.count, axis: int(round(lay.azimuth_deg if axis == "azimuth_deg" else lay.tilt_deg))}
-    colour = st.radio("Colour by", list(COLOUR_BY), format_func=COLOUR_BY.get, horizontal=True, key="sweep_colour")
-    charts.draw(charts.sweep_heatmap(frame, x=axis, x_title=title, value=colour, value_title=COLOUR_BY[colour],
+    colours = colour_by(sc.tariff.currency)
+    colour = st.radio("Colour by", list(colours), format_func=colours.get, horizontal=True, key="sweep_colour")
+    charts.draw(charts.sweep_heatmap(frame, x=axis, x_title=title, value=colour, value_title=colours[colour],
                                      current=current))
-    best = frame.loc[frame["self_consumed_added_kwh"].idxmax()]
-    clean = frame[(frame["flag"] == "") & (frame["count"] > 0)]
-    text = (f"Most added self-consumed energy: {int(best['count'])} panels at {title.split(' ')[0].lower()} "
-            f"{int(best[axis])}°, {fmt_kwh(best['self_consumed_added_kwh'])} a year.")
-    if len(clean):
-        b2 = clean.loc[clean["self_consumed_added_kwh"].idxmax()]
-        text += (f" Best without curtailment above {LOST_SHARE:.0%} or uncontrolled export: {int(b2['count'])} "
-                 f"panels at {int(b2[axis])}°, {fmt_kwh(b2['self_consumed_added_kwh'])}.")
-    else:
-        text += (f" Every setting here curtails or clips more than {LOST_SHARE:.0%} of the new panels' output, or "
-                 "exports without control.")
-    st.markdown(text)
-    st.caption(f"C: added curtailment and clipping above {LOST_SHARE:.0%} of the new panels' potential. "
-               "X: uncontrolled export. The framed cell is the sidebar's setting.")
+    st.markdown(sweep_summary(table, axis=axis, currency=sc.tariff.currency))
+    st.caption(legend(table))

@@ -129,7 +129,7 @@ def reference_year(sc: Scenario, shared: Shared) -> ReferenceYear:
     t_loop = time.perf_counter() - t_loop
     k = shared.dt_h / 1000.0
     clipped = total(dc_parts, "clipped_w") + total(ac["backed_up"], "clipped_w") + total(ac["grid"], "clipped_w")
-    curtailed = result["curtailed_dc_w"] + result["curtailed_acb_w"] + result["curtailed_acg_w"]
+    curtailed = result["curtailed_dc_w"] + result["curtailed_ac_backed_w"] + result["curtailed_ac_grid_w"]
     potential = float((potential_dc + potential_ac).sum() * k)
     figures = {
         "pv_potential": potential,

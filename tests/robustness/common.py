@@ -158,8 +158,9 @@ LOAD_300 = "\n[load]\nmonthly_kwh = [300, 300, 300, 300, 300, 300, 300, 300, 300
 
 
 # ------------------------------------------------------------------------------------------------ sanity
-#: Energy figures that may be negative: the stored change and the balance error.
-SIGNED = ("stored_change", "balance_error")
+#: Energy figures that may be negative: the stored change, the balance error, and the loads supplied from PV net
+#: of all grid import (below zero when the system's own losses draw more from the grid than PV gives the loads).
+SIGNED = ("stored_change", "balance_error", "loads_from_pv")
 
 
 def sanity_problems(result: dict) -> list[str]:
@@ -184,6 +185,9 @@ def sanity_problems(result: dict) -> list[str]:
         problems.append(f"balance does not close: in {inflow} kWh, out {outflow} kWh")
     if e["load_served"] > e["load"] + 1e-6:
         problems.append("more load served than there is")
+    if "loads_from_pv" in e and not math.isclose(e["loads_from_pv"], e["load_served"] - e["grid_import"],
+                                                  rel_tol=1e-9, abs_tol=1e-6):
+        problems.append("loads supplied from PV is not load served less grid import")
     for key in ("self_consumption", "pv_utilisation"):
         value = result["ratios"][key]
         if value is not None and not -1e-9 <= value <= 1 + 1e-9:

@@ -88,9 +88,13 @@ def run_checks(sc: Scenario, sim=None, *, cache=None, option: str = "") -> list[
     return checks
 
 
-def _same(a: Check, b: Check) -> bool:
+def same_check(a: Check, b: Check) -> bool:
+    """Whether two checks found the same thing (an option's check equal to the existing system's is not its own)."""
     return (a.id, a.subject, a.status, a.value, a.limit, a.sentence) == (b.id, b.subject, b.status, b.value, b.limit,
                                                                          b.sentence)
+
+
+_same = same_check
 
 
 def check_options(sc: Scenario, *, layout=None, sims: dict | None = None, site=None, cache=None,

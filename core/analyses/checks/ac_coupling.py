@@ -11,9 +11,8 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
-
 from core.analyses.checks.common import CAUTION_AC, CAUTION_BATTERY, Check
+from core.model import metrics
 from core.scenario import Array, Scenario
 
 #: Export energy below which a year counts as export-free (rounding of the engine's sums), kWh.
@@ -49,13 +48,8 @@ def worst_ac_surplus_w(steps, metering: str) -> float:
     is outside its view); in an outage ``H_acb − L_b`` (grid-side units stop). Converter outputs before any
     curtailment (docs/design.md §4).
     """
-    acb = steps["ac_backed_out_w"].to_numpy(dtype=float)
-    acg = steps["ac_grid_out_w"].to_numpy(dtype=float)
-    lb = steps["load_backed_w"].to_numpy(dtype=float)
-    lg = steps["load_grid_only_w"].to_numpy(dtype=float)
-    up = steps["grid_up"].to_numpy(dtype=bool)
-    seen = acb - lb if metering == "inverter" else acb + acg - lb - lg
-    surplus = np.where(up, seen, acb - lb)
+    surplus = metrics.ac_surplus_w(steps["ac_backed_out_w"], steps["ac_grid_out_w"], steps["load_backed_w"],
+                                   steps["load_grid_only_w"], steps.get("grid_up"), metering=metering)
     return float(max(0.0, surplus.max())) if surplus.size else 0.0
 
 

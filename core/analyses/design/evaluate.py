@@ -89,7 +89,7 @@ class DesignResult:
 def year_figures(flows: np.ndarray, s: SourcePower, dt_h: float) -> dict[str, float]:
     """Year totals (kWh) and hours of one design from its engine flows and source powers (as core.model.metrics)."""
     k = dt_h / 1000.0
-    curtailed = float((flows[_F["curtailed_dc_w"]] + flows[_F["curtailed_acb_w"]] + flows[_F["curtailed_acg_w"]]).sum()
+    curtailed = float((flows[_F["curtailed_dc_w"]] + flows[_F["curtailed_ac_backed_w"]] + flows[_F["curtailed_ac_grid_w"]]).sum()
                       * k)
     potential = float((s.potential_dc_w + s.potential_ac_w).sum() * k)
     clipped = float((s.clipped_dc_w + s.clipped_ac_w).sum() * k)
