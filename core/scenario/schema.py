@@ -71,6 +71,7 @@ class Module:
     alpha_isc_pct_per_c: float = field(default=0.05, metadata=_num(0, 0.5))
     length_m: float = field(default=1.7, metadata=_num(0.2, 4))
     width_m: float = field(default=1.1, metadata=_num(0.2, 3))
+    cells_in_series: int | None = field(default=None, metadata=_num(1, 300))  # None = estimated from voc_v
     price: float | None = field(default=None, metadata=_num(0, 1e6))  # per unit, in the tariff's currency
 
 
