@@ -17,9 +17,8 @@ def _day(ghi_hourly, seed=3):
     cs_ghi = cs["ghi"].to_numpy()
     ghi_h = np.asarray(ghi_hourly, float) if ghi_hourly is not None else cs_ghi.reshape(24, 60).mean(axis=1)
     dhi_h = 0.3 * ghi_h
-    out = sunshine.synthetic_irradiance(ghi_h, dhi_h, cs_ghi, sun["zenith"].to_numpy(), fine.day_of_year.to_numpy(),
-                                        pvlib.irradiance.get_extra_radiation(fine).to_numpy(), per_interval=60,
-                                        seed=seed)
+    out = sunshine.synthetic_irradiance(ghi_h, dhi_h, cs_ghi, sun["zenith"].to_numpy(), fine, per_interval=60,
+                                        step_s=60, seed=seed)
     return out, cs_ghi, ghi_h
 
 

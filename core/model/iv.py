@@ -41,7 +41,7 @@ COMMON_CELL_COUNTS = (32, 36, 40, 48, 54, 60, 66, 72, 78, 80, 96, 104, 108, 120,
 _RATIO_STEP = 0.01
 _G_BIN = 25.0
 _T_BIN = 2.0
-_N_CURRENT = 1500
+_N_CURRENT = 1000
 _VD_FRACTIONS = np.concatenate([np.linspace(-0.04, 0.0, 12, endpoint=False),
                                 1.0 - np.geomspace(1.0, 1e-4, 400)])
 
@@ -152,8 +152,8 @@ def operating_point(currents_a: np.ndarray, volts: np.ndarray, *, v_min: float =
     lo, hi = np.maximum(best - 1, 0), np.minimum(best + 1, p.shape[1] - 1)
     pl, ph = masked[rows, lo], masked[rows, hi]
     inner = (best > 0) & (best < p.shape[1] - 1) & np.isfinite(pl) & np.isfinite(ph)
-    denom = pl - 2.0 * p0 + ph
     with np.errstate(divide="ignore", invalid="ignore"):
+        denom = pl - 2.0 * p0 + ph
         refined = np.where(inner & (denom < 0), p0 - 0.125 * (ph - pl) ** 2 / denom, p0)
     power = np.where(np.any(ok, axis=1), np.maximum(refined, p0), 0.0)
     return power, np.where(np.any(ok, axis=1), volts[rows, best], 0.0)
@@ -177,8 +177,8 @@ def pattern_power_w(model: DiodeModel, sub_g_w_m2: np.ndarray, t_cell_c, *, diod
         return np.zeros(len(g))
     currents = np.linspace(0.0, il_max * 1.001, _N_CURRENT)
     curves = substring_voltages(model, uniq[:, 1], uniq[:, 0], currents, diodes, forward_v)
-    counts = np.zeros((len(g), len(uniq)))
-    np.add.at(counts, (np.repeat(np.arange(len(g)), g.shape[1]), inverse.ravel()), 1.0)
+    flat = np.repeat(np.arange(len(g)), g.shape[1]) * len(uniq) + inverse.ravel()
+    counts = np.bincount(flat, minlength=len(g) * len(uniq)).reshape(len(g), len(uniq)).astype(float)
     power, _ = operating_point(currents, counts @ curves, v_min=v_min, v_max=v_max, tracker=tracker)
     return power
 
@@ -210,8 +210,9 @@ def shaded_ratio(model: DiodeModel, sub_g_w_m2: np.ndarray, g_ref_w_m2, t_cell_c
         sl = slice(chunk, chunk + 400)
         shaded = pattern_power_w(model, sub_q[sl], t_q[sl], diodes=diodes, v_min=v_min, v_max=v_max,
                                  tracker=tracker)
-        plain = pattern_power_w(model, np.repeat(g_ref_q[sl, None], sub_q.shape[1], axis=1), t_q[sl],
-                                diodes=diodes)
+        # Unshaded: every substring alike, i.e. the module's own maximum power point (pvlib) times the modules.
+        params = operating_params(model, g_ref_q[sl], t_q[sl])
+        plain = np.asarray(pvlib.pvsystem.max_power_point(*params)["p_mp"], float) * sub_q.shape[1] / diodes
         with np.errstate(divide="ignore", invalid="ignore"):
             out[sl] = np.where(plain > 0, shaded / plain, 0.0)
     ratio[uneven] = np.clip(out[inverse.ravel()], 0.0, 1.0)

@@ -207,7 +207,14 @@ def obstacle_block_shade(zenith_deg, azimuth_deg, layout: FaceLayout, obstacles)
             hull = shapely.convex_hull(shapely.multipoints(uv[near]))
             hulls.append((steps, hull))
         for steps, hull in hulls:
-            cut = shapely.area(shapely.intersection(hull[:, None], boxes[None, :])) / area[None, :]
+            # Only pairs whose bounding boxes overlap go to shapely; a block inside the shadow's box may still be
+            # partly lit, so the overlap test only prunes.
+            bounds = shapely.bounds(hull)  # (m, 4)
+            pair = ((bounds[:, None, 0] < flat[None, :, 2]) & (bounds[:, None, 2] > flat[None, :, 0])
+                    & (bounds[:, None, 1] < flat[None, :, 3]) & (bounds[:, None, 3] > flat[None, :, 1]))
+            si, ri = np.nonzero(pair)
+            cut = np.zeros(pair.shape)
+            cut[si, ri] = shapely.area(shapely.intersection(hull[si], boxes[ri])) / area[ri]
             cut = cut.reshape(len(steps), layout.columns, layout.bypass_diodes, layout.blocks)
             # Several obstacles: the larger shade per block (overlap is not double-counted; a union would be exact).
             out[steps, r] = np.maximum(out[steps, r], np.clip(cut, 0.0, 1.0))

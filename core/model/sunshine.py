@@ -14,6 +14,7 @@ makes can be read with the variability index of Stein, Hansen & Reno (2012), :fu
 from __future__ import annotations
 
 import numpy as np
+import pandas as pd
 import pvlib
 
 #: Clear-sky index of a sunny minute and of a minute under a cloud (common practice, from memory).
@@ -49,9 +50,10 @@ def two_state_kc(kc_mean: np.ndarray, minutes: int, rng: np.random.Generator) ->
     return np.where(states, level_sun, level_cloud) * (1.0 + noise)
 
 
-def synthetic_irradiance(ghi_coarse_w_m2, dhi_coarse_w_m2, clearsky_fine_w_m2, zenith_fine_deg, day_of_year_fine,
-                         dni_extra_fine_w_m2, *, per_interval: int, seed: int = 0) -> dict[str, np.ndarray]:
-    """GHI, DHI and DNI (W/m2) at a fine step from coarse interval means (``per_interval`` fine steps each).
+def synthetic_irradiance(ghi_coarse_w_m2, dhi_coarse_w_m2, clearsky_fine_w_m2, zenith_fine_deg, times_fine, *,
+                         per_interval: int, step_s: int, seed: int = 0) -> dict[str, np.ndarray]:
+    """GHI, DHI and DNI (W/m2) at a fine step of ``step_s`` from coarse interval means (``per_interval`` fine steps
+    each); ``times_fine`` are the fine interval starts and ``zenith_fine_deg`` the true zenith at their midpoints.
 
     Each fine step is the mean of its minutes (a fine step of one minute or more; minutes are generated and
     averaged). Every coarse interval's mean GHI is kept to rounding; intervals with no clear-sky light keep a flat
@@ -65,21 +67,21 @@ def synthetic_irradiance(ghi_coarse_w_m2, dhi_coarse_w_m2, clearsky_fine_w_m2, z
     has_sky = cs_mean > 1.0
     kc_mean = np.where(has_sky, ghi_c / np.where(has_sky, cs_mean, 1.0), 0.0)
     rng = np.random.default_rng(seed)
-    # Minutes per fine step: the fine step is a whole number of minutes inside the coarse one.
-    sub = max(1, int(round(60 / k))) if k <= 60 else 1
+    sub = max(1, int(round(step_s / 60)))  # minutes per fine step
     kc_min = two_state_kc(kc_mean, k * sub, rng).clip(0.0, 1.5)
     kc = kc_min.reshape(n, k, sub).mean(axis=2)
     ghi = kc * cs
     ghi = _keep_means(ghi, ghi_c)
     zen = np.asarray(zenith_fine_deg, float)
-    split = pvlib.irradiance.erbs(ghi.ravel(), zen, np.asarray(day_of_year_fine))
+    times = pd.DatetimeIndex(times_fine)
+    split = pvlib.irradiance.erbs(ghi.ravel(), zen, times.day_of_year.to_numpy())
     dhi = np.minimum(np.nan_to_num(np.asarray(split["dhi"], float), nan=0.0).reshape(n, k), ghi)
     dhi = np.minimum(_keep_means(dhi, dhi_c), ghi)
     cosz = np.cos(np.radians(zen)).reshape(n, k)
     up = cosz >= 0.065
     dni = np.where(up, (ghi - dhi) / np.where(up, cosz, 1.0), 0.0)
     dhi = np.where(up, dhi, ghi)
-    dni = np.clip(dni, 0.0, np.asarray(dni_extra_fine_w_m2, float).reshape(n, k))
+    dni = np.clip(dni, 0.0, np.asarray(pvlib.irradiance.get_extra_radiation(times), float).reshape(n, k))
     return {"ghi": ghi.ravel(), "dhi": dhi.ravel(), "dni": dni.ravel(), "kc": kc.ravel()}
 
 

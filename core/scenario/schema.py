@@ -237,6 +237,7 @@ class Expansion:
     mount: Literal["rack", "flush"] = "flush"
     losses_pct: float = field(default=10.0, metadata=_num(0, 99))
     row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
+    face: str | None = None  # the [[faces]] entry the new panels go on (they take its orientation and shading)
     microinverter: str | None = None  # AC option
     controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
     modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
@@ -271,6 +272,10 @@ class SimulationSettings:
     step_s: int | None = field(default=None, metadata=_num(60, 3600))
     design_low_temp_c: float | None = field(default=None, metadata=_num(-60, 40))
     design_high_temp_c: float | None = field(default=None, metadata=_num(0, 90))
+    # Strings on a shaded face: a scanning tracker finds the global maximum; a hill-climbing one the first it meets.
+    mppt_tracker: Literal["global", "local"] = "global"
+    # Irradiance inside each hour of an hourly weather file at a finer step: synthetic minutes or a smooth curve.
+    sub_hourly_sun: Literal["synthetic", "smooth"] = "synthetic"
 
 
 @dataclass(frozen=True)
