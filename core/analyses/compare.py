@@ -27,6 +27,7 @@ import numpy as np
 
 from core.analyses.checks import check_options
 from core.analyses.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
+from core.analyses.shading_verdict import shading_reason
 from core.model import economics as econ
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
@@ -261,6 +262,8 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult]) -> Verdict:
             reasons.append("DC-coupling wins here because too much of the new panels' output cannot be used as it is "
                            "made: stored, DC-coupled energy takes one conversion fewer, and a DC-coupled array is "
                            "throttled at its controller instead of being curtailed on the AC side.")
+    if shade := shading_reason(results, energy):
+        reasons.append(shade)
     for k in others:
         d = results[k].delta
         lost = d["curtailed_added_kwh"] + d["clipped_added_kwh"]
