@@ -184,7 +184,8 @@ def face_array_power(site, sc: Scenario, array: Array, mo: pv.ModuleOutput, diff
                                                    diodes=lay.bypass_diodes, tracker=tracker, **window)
         return out
 
-    r_obst, r_both = ratios(obst), ratios(both)
+    r_obst = ratios(obst)
+    r_both = r_obst if whole_r is None else ratios(both)  # no rows in front: the same patterns
     size_of = np.array([len(g) for g in groups], float)[:, None]
     mean_obst = (r_obst * size_of).sum(axis=0) / n
     mean_both = (r_both * size_of).sum(axis=0) / n

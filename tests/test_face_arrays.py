@@ -6,8 +6,8 @@ import pytest
 
 from core.analyses.options import with_option
 from core.face_arrays import array_breakdown
-from core.simulate import OrientationCache, prepare_site, simulate
 from core.scenario.toml_io import parse_scenario
+from core.simulate import OrientationCache, prepare_site, simulate
 
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_sites" / "maple_hollow" / "scenario.toml"
 

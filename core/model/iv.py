@@ -212,7 +212,7 @@ def shaded_ratio(model: DiodeModel, sub_g_w_m2: np.ndarray, g_ref_w_m2, t_cell_c
                                  tracker=tracker)
         # Unshaded: every substring alike, i.e. the module's own maximum power point (pvlib) times the modules.
         params = operating_params(model, g_ref_q[sl], t_q[sl])
-        plain = np.asarray(pvlib.pvsystem.max_power_point(*params)["p_mp"], float) * sub_q.shape[1] / diodes
+        plain = np.asarray(pvlib.pvsystem.max_power_point(*params, method="newton")["p_mp"], float) * sub_q.shape[1] / diodes
         with np.errstate(divide="ignore", invalid="ignore"):
             out[sl] = np.where(plain > 0, shaded / plain, 0.0)
     ratio[uneven] = np.clip(out[inverse.ravel()], 0.0, 1.0)
