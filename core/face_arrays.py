@@ -262,3 +262,24 @@ def step_note(step_s: int, weather_source: str) -> str:
     else:
         how = "the weather file's own step"
     return f"Step: {step}; sunshine: {how}. Hourly is one choice away: [simulation] step_s = 3600."
+
+
+def module_shade_hours(site, face: Face, module) -> tuple[shading.FaceLayout, np.ndarray]:
+    """Hours a year each module position of a face has part of its cells in an obstacle's or a row's shadow (or
+    the sun behind the horizon) while the sun is up and in front of the face: (layout, hours per module)."""
+    size = (face.rows or 1) * (face.columns or max(face.max_modules, 1))
+    lay = layout_for(face, module, size)
+    geo = site.geometry
+    zen, az = geo.apparent_zenith_deg, geo.azimuth_deg
+    sun = shading.sun_vectors(zen, az)
+    _, _, _, normal = shading._unit_vectors(face.tilt_deg, face.azimuth_deg)
+    up = (zen < 90.0) & (sun @ normal > 0.0) & (site.weather.data["dni"].to_numpy() > 0.0)
+    idx = np.flatnonzero(up)
+    dark = np.zeros((len(idx), lay.n_modules), dtype=bool)
+    if face.obstacles:
+        dark |= shading.obstacle_block_shade(zen[idx], az[idx], lay, face.obstacles).max(axis=(2, 3)) > 0.0
+    if lay.row_pitch_m is not None:
+        dark |= shading.row_block_shade(zen[idx], az[idx], lay).max(axis=(2, 3)) > 0.0
+    if face.horizon:
+        dark |= ~shading.beam_visible(zen[idx], az[idx], face.horizon)[:, None]
+    return lay, dark.sum(axis=0) * site.dt_h

@@ -42,12 +42,14 @@ from explorer.views import (  # noqa: E402
     start,
 )
 from explorer.views import compare as compare_view  # noqa: E402
+from explorer.views import face as face_view  # noqa: E402
+from explorer.views import losses as losses_view  # noqa: E402
 from explorer.views import resolution as resolution_view  # noqa: E402
 from explorer.views import sweep as sweep_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
 TABS = ("Energy by month", "Typical day", "Output vs base load", "Options", "Sweep", "Checks", "Outages",
-        "Data files", "Save and report")
+        "Losses and shade", "Data files", "Save and report")
 
 
 class SessionFolder:
@@ -177,6 +179,10 @@ def main() -> None:
         checks.render(found)
     with tabs["Outages"], section("Grid outages"):
         outages.render(sim, baseline)
+    with tabs["Losses and shade"], section("Losses"):
+        losses_view.render(sim)
+    with tabs["Losses and shade"], section("Shade on a face"):
+        face_view.render(sc, sim.site)
     with tabs["Data files"], section("Data in use"):
         st.divider()
         data_files.render_current(sim)
