@@ -40,8 +40,7 @@ def loss_steps(array: dict) -> pd.DataFrame:
 def loss_chart(frame: pd.DataFrame, array_name: str) -> alt.Chart:
     """Horizontal bars from the potential down to what is delivered, each loss as a span (kWh a year)."""
     return alt.Chart(frame, title=alt.Title(f"Where the energy of “{array_name}” goes",
-                                            subtitle="a year, kWh: each bar is what that stage takes")).mark_bar(
-        height=18).encode(
+                                            subtitle="a year, kWh: each bar is what that stage takes")).mark_bar().encode(
         y=alt.Y("step:N", sort=alt.EncodingSortField("order"), title=None, axis=alt.Axis(labelLimit=320)),
         x=alt.X("start_kwh:Q", title="Energy (kWh a year)"),
         x2="end_kwh:Q",
@@ -50,7 +49,7 @@ def loss_chart(frame: pd.DataFrame, array_name: str) -> alt.Chart:
                                           labelExpr="{'potential': 'potential', 'loss': 'loss', 'gain': "
                                                     "'gain (cold cells)', 'delivered': 'delivered'}[datum.label]")),
         tooltip=[alt.Tooltip("step:N", title="Stage"), alt.Tooltip("kwh:Q", title="kWh a year", format=",.0f")],
-    ).properties(width="container", height=34 * len(frame) + 40)
+    ).properties(width="container", height=alt.Step(30))
 
 
 def render(sim) -> None:
@@ -59,6 +58,9 @@ def render(sim) -> None:
     from explorer.charts import draw
 
     st.caption(step_note(sim.site.step_s, sim.site.weather.source))
+    on_faces = sorted({a.face for a in sim.scenario.arrays if a.face})
+    if on_faces:
+        st.caption("Arrays on a roof face take its tilt, azimuth and shade: " + ", ".join(on_faces) + ".")
     arrays = array_breakdown(sim)
     names = [a["name"] for a in arrays]
     if not names:
@@ -67,6 +69,6 @@ def render(sim) -> None:
     chosen = st.selectbox("Array", names, index=len(names) - 1, key="losses_array")
     array = arrays[names.index(chosen)]
     draw(loss_chart(loss_steps(array), chosen))
-    table = pd.DataFrame([(LOSS_WORDS[k], v) for k, v in array["losses_kwh"].items()],
+    table = pd.DataFrame([(LOSS_WORDS[k], 0.0 if abs(v) < 0.5 else v) for k, v in array["losses_kwh"].items()],
                          columns=["Loss", "kWh a year"])
     st.dataframe(table, hide_index=True, column_config={"kWh a year": st.column_config.NumberColumn(format="%.0f")})
