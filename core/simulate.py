@@ -186,8 +186,7 @@ class OrientationCache:
         m = sc.modules[array.module]
         shaded_face = face_arrays.face_of(sc, array)
         if shaded_face is not None:  # the face's own model shades it; this is the open module at its orientation
-            array = dataclasses.replace(array, row_pitch_m=None, mount=shaded_face.mount,
-                                        losses_pct=shaded_face.losses_pct if array.face else array.losses_pct)
+            array = dataclasses.replace(array, row_pitch_m=None)
         # The module record itself (a frozen dataclass of numbers) is the key: equal fields, equal key.
         key = (site.key, m, array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct, array.row_pitch_m)
         if key not in self._store:

@@ -212,4 +212,6 @@ def draw(chart) -> None:
     than the rest of a chart's work on every rerun; tests/test_charts.py validates every builder instead."""
     import streamlit as st
 
-    st.vega_lite_chart(chart.to_dict(validate=False), width="stretch")
+    with alt.data_transformers.disable_max_rows():  # a typical day at a one-minute step has more than 5000 rows
+        spec = chart.to_dict(validate=False)
+    st.vega_lite_chart(spec, width="stretch")

@@ -89,3 +89,16 @@ def test_verdict_gives_the_shading_numbers(runs):
     line = next(r for r in verdict.reasons if r.startswith("Shading on the new panels' face"))
     micro = runs[True, "ac_backed_up"][1]["expansion"]["losses_kwh"]["obstacles"]
     assert "on microinverters" in line and f"{micro:.0f} kWh" in line
+
+
+def test_one_cache_keeps_faces_apart():
+    # The orientation cache is keyed by the face too: the same orientation with and without a chimney differs.
+    cache = OrientationCache()
+    with_chimney, without = _scenario(True), _scenario(False)
+    site = prepare_site(with_chimney)
+    a = simulate(with_option(with_chimney, "dc"), site, cache)
+    b = simulate(with_option(without, "dc"), site, cache)
+    loss = {k: {x["name"]: x for x in array_breakdown(s)}["expansion"]["losses_kwh"]["obstacles"]
+            for k, s in (("a", a), ("b", b))}
+    assert loss["a"] > 0.0 and loss["b"] == 0.0
+    assert a.sources.per_array_dc_w["expansion"].sum() < b.sources.per_array_dc_w["expansion"].sum()
