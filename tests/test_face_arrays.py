@@ -102,3 +102,16 @@ def test_one_cache_keeps_faces_apart():
             for k, s in (("a", a), ("b", b))}
     assert loss["a"] > 0.0 and loss["b"] == 0.0
     assert a.sources.per_array_dc_w["expansion"].sum() < b.sources.per_array_dc_w["expansion"].sum()
+
+
+def test_face_scenario_round_trips_and_a_too_small_layout_is_bad_input():
+    from core.errors import InputError
+    from core.scenario import scenario_to_toml
+
+    sc = _scenario(True)
+    again = parse_scenario(scenario_to_toml(sc), base_dir=SAMPLE.parent)
+    assert again.faces == sc.faces and again.expansion.face == "east porch"
+    crowded = with_option(sc.replace(expansion=sc.expansion.priced_for(3)), "ac_backed_up")
+    with pytest.raises(InputError) as err:
+        simulate(crowded)
+    assert "faces[0].rows" in str(err.value) and "holds 2" in str(err.value)
