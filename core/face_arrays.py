@@ -23,6 +23,8 @@ from core.model import iv, pv, shading
 from core.scenario import Array, Scenario
 from core.scenario.schema import Face
 
+#: Obstacle shadows are traced at most this often (s); finer steps take the nearest trace.
+SHADE_STEP_S = 300
 #: Names of the losses before the converter, in the chain's order.
 DC_LOSSES = ("horizon", "obstacles", "row_shading", "other", "temperature", "mismatch")
 
@@ -140,8 +142,12 @@ def face_array_power(site, sc: Scenario, array: Array, mo: pv.ModuleOutput, diff
     if key not in shade_cache:
         whole_o = whole_r = None
         if face.obstacles and len(idx):
-            whole_o = shading.substring_beam_factor(shading.obstacle_block_shade(zen[idx], az[idx], lay,
-                                                                                 face.obstacles))
+            # Shadows move about a degree in five minutes: finer steps take the shade of the nearest 5-minute mark.
+            k = max(1, SHADE_STEP_S // site.step_s)
+            near = np.clip(np.rint(idx / k).astype(np.int64) * k, 0, len(zen) - 1)
+            marks, which = np.unique(near, return_inverse=True)
+            whole_o = shading.substring_beam_factor(shading.obstacle_block_shade(zen[marks], az[marks], lay,
+                                                                                 face.obstacles))[which.ravel()]
         if lay.row_pitch_m is not None and len(idx):
             whole_r = shading.substring_beam_factor(shading.row_block_shade(zen[idx], az[idx], lay))
         shade_cache[key] = (whole_o, whole_r)
