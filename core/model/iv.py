@@ -166,7 +166,7 @@ def pattern_power_w(model: DiodeModel, sub_g_w_m2: np.ndarray, t_cell_c, *, diod
 
     ``sub_g_w_m2``: (patterns, substrings) effective irradiance of every substring in series (a module has
     ``diodes`` of them); ``t_cell_c``: one cell temperature per pattern. Identical substring states share one
-    curve, so a pattern costs one matrix product over the distinct curves.
+    curve; a pattern's voltage is the sum of its substrings' curves.
     """
     g = np.atleast_2d(np.asarray(sub_g_w_m2, float))
     t = np.broadcast_to(np.asarray(t_cell_c, float), (len(g),))
@@ -177,9 +177,9 @@ def pattern_power_w(model: DiodeModel, sub_g_w_m2: np.ndarray, t_cell_c, *, diod
         return np.zeros(len(g))
     currents = np.linspace(0.0, il_max * 1.001, _N_CURRENT)
     curves = substring_voltages(model, uniq[:, 1], uniq[:, 0], currents, diodes, forward_v)
-    flat = np.repeat(np.arange(len(g)), g.shape[1]) * len(uniq) + inverse.ravel()
-    counts = np.bincount(flat, minlength=len(g) * len(uniq)).reshape(len(g), len(uniq)).astype(float)
-    power, _ = operating_point(currents, counts @ curves, v_min=v_min, v_max=v_max, tracker=tracker)
+    # The string's voltage at each current is the sum of its substrings' voltages (they share one current).
+    volts = curves[inverse.reshape(g.shape)].sum(axis=1)
+    power, _ = operating_point(currents, volts, v_min=v_min, v_max=v_max, tracker=tracker)
     return power
 
 
@@ -206,8 +206,9 @@ def shaded_ratio(model: DiodeModel, sub_g_w_m2: np.ndarray, g_ref_w_m2, t_cell_c
     t_q = uniq[:, -1] * _T_BIN
     sub_q = uniq[:, :-2] * _RATIO_STEP * g_ref_q[:, None]
     out = np.empty(len(uniq))
-    for chunk in range(0, len(uniq), 400):
-        sl = slice(chunk, chunk + 400)
+    per_chunk = max(1, 4000 // sub_q.shape[1])  # patterns × substrings × currents stays a few tens of MB
+    for chunk in range(0, len(uniq), per_chunk):
+        sl = slice(chunk, chunk + per_chunk)
         shaded = pattern_power_w(model, sub_q[sl], t_q[sl], diodes=diodes, v_min=v_min, v_max=v_max,
                                  tracker=tracker)
         # Unshaded: every substring alike, i.e. the module's own maximum power point (pvlib) times the modules.

@@ -185,7 +185,6 @@ def obstacle_block_shade(zenith_deg, azimuth_deg, layout: FaceLayout, obstacles)
     lit = (np.asarray(zenith_deg, float) < 90.0) & (facing > 1e-6)
     centre = face_centre(layout)
     flat = rects.reshape(-1, 4)
-    boxes = shapely.box(flat[:, 0], flat[:, 1], flat[:, 2], flat[:, 3])
     area = (flat[:, 2] - flat[:, 0]) * (flat[:, 3] - flat[:, 1])
     lo, hi = flat[:, :2].min(axis=0), flat[:, 2:].max(axis=0)
     for r, origin in enumerate(row_origins(layout)):
@@ -212,9 +211,10 @@ def obstacle_block_shade(zenith_deg, azimuth_deg, layout: FaceLayout, obstacles)
             bounds = shapely.bounds(hull)  # (m, 4)
             pair = ((bounds[:, None, 0] < flat[None, :, 2]) & (bounds[:, None, 2] > flat[None, :, 0])
                     & (bounds[:, None, 1] < flat[None, :, 3]) & (bounds[:, None, 3] > flat[None, :, 1]))
-            si, ri = np.nonzero(pair)
             cut = np.zeros(pair.shape)
-            cut[si, ri] = shapely.area(shapely.intersection(hull[si], boxes[ri])) / area[ri]
+            for ri in np.flatnonzero(pair.any(axis=0)):  # GEOS's rectangle clipper, many shadows at a time
+                si = np.flatnonzero(pair[:, ri])
+                cut[si, ri] = shapely.area(shapely.clip_by_rect(hull[si], *flat[ri])) / area[ri]
             cut = cut.reshape(len(steps), layout.columns, layout.bypass_diodes, layout.blocks)
             # Several obstacles: the larger shade per block (overlap is not double-counted; a union would be exact).
             out[steps, r] = np.maximum(out[steps, r], np.clip(cut, 0.0, 1.0))
