@@ -1,5 +1,6 @@
 """Arrays on a shaded face through the whole year (core.face_arrays via core.simulate)."""
 
+import dataclasses
 from pathlib import Path
 
 import pytest
@@ -115,3 +116,16 @@ def test_face_scenario_round_trips_and_a_too_small_layout_is_bad_input():
     with pytest.raises(InputError) as err:
         simulate(crowded)
     assert "faces[0].rows" in str(err.value) and "holds 2" in str(err.value)
+
+
+def test_a_hill_climbing_tracker_loses_more_to_the_chimney():
+    # A tracker that climbs from open circuit stops on the first power maximum of a partly shaded string (the
+    # classic local-maximum trap, e.g. Bishop 1988's curves); a scanning one finds the global maximum.
+    sc = _scenario(True)
+    site = prepare_site(sc)
+    local = sc.replace(simulation=dataclasses.replace(sc.simulation, mppt_tracker="local"))
+    loss = {}
+    for name, variant in (("global", sc), ("local", local)):
+        sim = simulate(with_option(variant, "dc"), site, OrientationCache())
+        loss[name] = {a["name"]: a for a in array_breakdown(sim)}["expansion"]["losses_kwh"]["obstacles"]
+    assert loss["local"] > loss["global"] > 0.0

@@ -28,6 +28,7 @@ import numpy as np
 from core.analyses.checks import check_options
 from core.analyses.options import OPTION_LABELS, Layout, applicable_options, layout_of, with_option
 from core.analyses.shading_verdict import shading_reason
+from core.face_arrays import array_breakdown
 from core.model import economics as econ
 from core.scenario import Scenario
 from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
@@ -58,7 +59,7 @@ class OptionResult:
     def to_dict(self) -> dict:
         return {"label": self.label, "simulate": self.simulation.results.to_dict(), "delta": self.delta,
                 "economics": None if self.economics is None else self.economics.to_dict(),
-                "checks": [c.to_dict() for c in self.checks]}
+                "checks": [c.to_dict() for c in self.checks], "arrays": array_breakdown(self.simulation)}
 
 
 @dataclass(frozen=True)
