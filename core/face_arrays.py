@@ -278,7 +278,7 @@ def module_shade_hours(site, face: Face, module) -> tuple[shading.FaceLayout, np
     geo = site.geometry
     zen, az = geo.apparent_zenith_deg, geo.azimuth_deg
     sun = shading.sun_vectors(zen, az)
-    _, _, _, normal = shading._unit_vectors(face.tilt_deg, face.azimuth_deg)
+    _, _, _, normal = shading.face_vectors(face.tilt_deg, face.azimuth_deg)
     up = (zen < 90.0) & (sun @ normal > 0.0) & (site.weather.data["dni"].to_numpy() > 0.0)
     idx = np.flatnonzero(up)
     dark = np.zeros((len(idx), lay.n_modules), dtype=bool)

@@ -129,3 +129,15 @@ def test_a_hill_climbing_tracker_loses_more_to_the_chimney():
         sim = simulate(with_option(variant, "dc"), site, OrientationCache())
         loss[name] = {a["name"]: a for a in array_breakdown(sim)}["expansion"]["losses_kwh"]["obstacles"]
     assert loss["local"] > loss["global"] > 0.0
+
+
+def test_shade_hours_per_module_for_the_drawing():
+    from core.face_arrays import module_shade_hours
+
+    sc = _scenario(True)
+    site = prepare_site(sc)
+    layout, hours = module_shade_hours(site, sc.faces[0], sc.modules["mono_410"])
+    assert layout.n_modules == 2 and hours.max() > 0.0
+    assert hours.min() < hours.max()  # the chimney stands off one end of the row: one module sees more shade
+    _, none = module_shade_hours(site, dataclasses.replace(sc.faces[0], obstacles=()), sc.modules["mono_410"])
+    assert not none.any()

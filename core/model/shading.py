@@ -65,7 +65,9 @@ class FaceLayout:
         return self.rows * self.columns
 
 
-def _unit_vectors(tilt_deg: float, azimuth_deg: float):
+def face_vectors(tilt_deg: float, azimuth_deg: float):
+    """Unit vectors of a face: ``d`` (horizontal, the way it looks), ``u`` (along its lowest edge), ``w`` (up the
+    slope) and ``n`` (its normal, out of the face)."""
     b, g = np.radians(tilt_deg), np.radians(azimuth_deg)
     d = np.array([np.sin(g), np.cos(g), 0.0])  # horizontal, the way the face looks
     u = np.array([np.cos(g), -np.sin(g), 0.0])  # along the lowest edge
@@ -82,7 +84,7 @@ def sun_vectors(zenith_deg, azimuth_deg) -> np.ndarray:
 
 def row_origins(layout: FaceLayout) -> np.ndarray:
     """3-D origin (lowest edge, u = 0 at the layout's middle) of each row's plane (rows, 3)."""
-    d, _, w, _ = _unit_vectors(layout.tilt_deg, layout.azimuth_deg)
+    d, _, w, _ = face_vectors(layout.tilt_deg, layout.azimuth_deg)
     r = np.arange(layout.rows, dtype=float)[:, None]
     if layout.row_pitch_m is None:
         return r * layout.module_s_m * w[None, :]  # stacked up the slope on one plane
@@ -91,7 +93,7 @@ def row_origins(layout: FaceLayout) -> np.ndarray:
 
 def face_centre(layout: FaceLayout) -> np.ndarray:
     """The middle of the module layout (3-D): where obstacles are measured from."""
-    _, _, w, _ = _unit_vectors(layout.tilt_deg, layout.azimuth_deg)
+    _, _, w, _ = face_vectors(layout.tilt_deg, layout.azimuth_deg)
     return row_origins(layout).mean(axis=0) + 0.5 * layout.module_s_m * w
 
 
@@ -175,7 +177,7 @@ def obstacle_block_shade(zenith_deg, azimuth_deg, layout: FaceLayout, obstacles)
     shadow that reaches the layout's bounding box go through shapely.
     """
     n = len(np.asarray(zenith_deg))
-    _, u, w, nrm = _unit_vectors(layout.tilt_deg, layout.azimuth_deg)
+    _, u, w, nrm = face_vectors(layout.tilt_deg, layout.azimuth_deg)
     rects = block_rectangles(layout)
     out = np.zeros((n, layout.rows, layout.columns, layout.bypass_diodes, layout.blocks))
     if not obstacles or n == 0:
