@@ -95,12 +95,16 @@ def _cmd_simulate(args) -> int:
         from core.present.report import write_steps_csv
 
         write_steps_csv(sim, args.steps_csv, inputs=[Path(args.scenario)])
+    from core.face_arrays import array_breakdown, step_note
+
     if args.json:
-        print(json.dumps({"name": sc.name, **out}, indent=2))
+        print(json.dumps({"name": sc.name, **out, "step_s": sim.site.step_s, "arrays": array_breakdown(sim)},
+                         indent=2))
     else:
         step = sim.site.step_s
         print(f"{sc.name}: one year at {step // 60}-minute steps\n" if step % 60 == 0 else f"{sc.name}\n")
         print(format_year_table(out))
+        print(step_note(sim.site.step_s, sim.site.weather.source))
     return EXIT_OK
 
 

@@ -10,14 +10,16 @@ reuses it: :func:`prepare_site` (weather, sun, loads, outages) is computed once 
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
+from core import face_arrays
 from core.errors import InputError
-from core.model import conversion, dispatch, metrics, outages, pv, solar
+from core.model import conversion, dispatch, metrics, outages, pv, solar, sunshine
 from core.model import weather as weather_io
 from core.model.loads import build_year, read_load_csv
 from core.model.weather_monthly import monthly_weather
@@ -105,14 +107,30 @@ def _load_year(sc: Scenario, measured, path_key: str, monthly_key: str, step_s: 
 
 
 def simulation_step_s(requested_s: int | None, weather_step_s: int, load_steps_s: list[int]) -> int:
-    """The step to simulate at: the scenario's choice; else the finer of weather and load when both are
-    sub-hourly; else the weather's own step (hourly weather with finer load data stays hourly)."""
+    """The step to simulate at: the scenario's choice; else the finer of weather and the load's own step (a
+    15-minute meter runs at 15 minutes on hourly weather, whose hours are then filled with synthetic minutes);
+    else the weather's own step. Hourly stays one choice away (``[simulation] step_s = 3600``)."""
     if requested_s:
         return int(requested_s)
-    if weather_step_s < 3600 and load_steps_s:
+    if load_steps_s:
         finest = min([weather_step_s, *load_steps_s])
         return max([s for s in STEPS_S if s <= finest] or [STEPS_S[0]])
     return weather_step_s
+
+
+def _synthetic_sun(sc: Scenario, coarse: weather_io.Weather, fine: weather_io.Weather, sun: pd.DataFrame,
+                   step_s: int) -> weather_io.Weather:
+    """The fine weather with its irradiance replaced by synthetic minutes that keep each coarse interval's mean
+    (:func:`core.model.sunshine.synthetic_irradiance`); temperature, wind and pressure stay interpolated."""
+    lat, lon, alt = sc.site.latitude, sc.site.longitude, sc.site.altitude_m
+    index = fine.data.index
+    cs = weather_io.clearsky_ghi(index, step_s, lat, lon, alt, solpos=sun)
+    syn = sunshine.synthetic_irradiance(coarse.data["ghi"].to_numpy(), coarse.data["dhi"].to_numpy(), cs,
+                                        sun["zenith"].to_numpy(), index, per_interval=coarse.step_s // step_s,
+                                        step_s=step_s, seed=sc.weather.seed)
+    data = fine.data.assign(ghi=syn["ghi"], dni=syn["dni"], dhi=syn["dhi"])
+    source = f"{coarse.source}, synthetic minutes to {step_s} s (two-state clear-sky index chain, seed {sc.weather.seed})"
+    return dataclasses.replace(fine, data=data, source=source)
 
 
 def prepare_site(sc: Scenario) -> SiteData:
@@ -129,8 +147,11 @@ def prepare_site(sc: Scenario) -> SiteData:
     index = nominal_index(step_s, tz)
     sun = weather_io.sun_at_midpoints(index, step_s, lat, lon, alt)
     if step_s != weather.step_s:
+        coarse = weather
         weather = weather_io.interpolate_weather(weather, step_s, latitude=lat, longitude=lon, altitude_m=alt,
                                                  solpos=sun)
+        if step_s < coarse.step_s and sc.simulation.sub_hourly_sun == "synthetic":
+            weather = _synthetic_sun(sc, coarse, weather, sun, step_s)
     index = weather.data.index
     geometry = solar.solar_geometry(index, lat, lon, alt, pressure_pa=weather.data["pressure"].to_numpy(),
                                     temp_air_c=weather.data["temp_air"].to_numpy(), step_s=step_s, position=sun)
@@ -153,6 +174,9 @@ class OrientationCache:
 
     def __init__(self) -> None:
         self._store: dict[tuple, pv.ModuleOutput] = {}
+        self._faces: dict[tuple, face_arrays.FacePower] = {}  # arrays on a shading face, by face and placement
+        self._face_shade: dict[tuple, tuple] = {}  # a face's block shading per site and layout, for all its arrays
+        self._chains: dict[tuple, tuple] = {}  # one module's loss chain (the output is kept so its id stays unique)
         self._diffuse_iam: dict[float, dict[str, float]] = {}  # Marion's factors per tilt, for every azimuth
 
     def __len__(self) -> int:
@@ -160,6 +184,9 @@ class OrientationCache:
 
     def module_output(self, site: SiteData, sc: Scenario, array: Array) -> pv.ModuleOutput:
         m = sc.modules[array.module]
+        shaded_face = face_arrays.face_of(sc, array)
+        if shaded_face is not None:  # the face's own model shades it; this is the open module at its orientation
+            array = dataclasses.replace(array, row_pitch_m=None)
         # The module record itself (a frozen dataclass of numbers) is the key: equal fields, equal key.
         key = (site.key, m, array.tilt_deg, array.azimuth_deg, array.mount, array.losses_pct, array.row_pitch_m)
         if key not in self._store:
@@ -180,6 +207,31 @@ class OrientationCache:
                 shading_loss=shading, iam_model="physical", diffuse_iam=self._diffuse_iam[tilt])
         return self._store[key]
 
+    def plain_chain(self, site: SiteData, sc: Scenario, array: Array, mo: pv.ModuleOutput) -> tuple:
+        """(poa Wh, losses Wh) of an array without face shading; computed for one module and scaled."""
+        key = (id(mo), array.module, array.row_pitch_m, array.tilt_deg, array.azimuth_deg)
+        if key not in self._chains:
+            one = dataclasses.replace(array, coupling="ac", modules=1)
+            self._chains[key] = (mo, face_arrays.plain_array_losses(site, sc, one, mo))
+        poa, losses = self._chains[key][1]
+        n = array.module_count
+        return poa * n, {k: v * n for k, v in losses.items()}
+
+    def face_power(self, site: SiteData, sc: Scenario, array: Array) -> face_arrays.FacePower | None:
+        """An array on a face with a layout or surroundings: its shaded DC power (None for any other array)."""
+        face = face_arrays.face_of(sc, array)
+        if face is None:
+            return None
+        first, size = face_arrays.placement(sc, array)
+        converter = sc.controllers[array.controller] if array.coupling == "dc" else sc.microinverters[array.microinverter]
+        key = (site.key, sc.modules[array.module], face, first, size, array.coupling, array.modules_per_string,
+               array.strings, array.modules, array.losses_pct, converter, sc.simulation.mppt_tracker)
+        if key not in self._faces:
+            mo = self.module_output(site, sc, array)
+            self._faces[key] = face_arrays.face_array_power(site, sc, array, mo, self._diffuse_iam[float(face.tilt_deg)],
+                                                            self._face_shade)
+        return self._faces[key]
+
 
 @dataclass(frozen=True)
 class SourcePower:
@@ -193,6 +245,9 @@ class SourcePower:
     ac_backed: conversion.Converted
     ac_grid: conversion.Converted
     per_array_dc_w: dict[str, np.ndarray]
+    # Per array: module-side power clipped by its converter (W) and the yearly chain before it (poa_wh, losses_wh).
+    per_array_clipped_w: dict[str, np.ndarray] = field(default_factory=dict)
+    per_array_chain: dict[str, tuple[float, dict[str, float]]] = field(default_factory=dict)
 
 
 def _sum(parts: list[conversion.Converted], n: int) -> conversion.Converted:
@@ -209,31 +264,50 @@ def source_power(sc: Scenario, site: SiteData, cache: OrientationCache) -> Sourc
     ac_parts: dict[str, list[conversion.Converted]] = {"backed_up": [], "grid": []}
     potential_dc = np.zeros(n)
     potential_ac = np.zeros(n)
+    clipped: dict[str, np.ndarray] = {}
+    chain: dict[str, tuple[float, dict[str, float]]] = {}
     for array in sc.arrays:
         mo = cache.module_output(site, sc, array)
-        per_array[array.name] = mo.p_dc_w * array.module_count
+        fp = cache.face_power(site, sc, array)
+        if fp is None:
+            per_array[array.name] = mo.p_dc_w * array.module_count
+            chain[array.name] = cache.plain_chain(site, sc, array, mo)
+        else:
+            per_array[array.name] = fp.p_dc_w
+            chain[array.name] = (fp.poa_wh, fp.losses_wh)
         if array.coupling == "dc":
             by_controller.setdefault(array.controller, []).append((array, mo))
             potential_dc += per_array[array.name]
         else:
             mi = sc.microinverters[array.microinverter]
-            ac_parts[array.side].append(conversion.microinverter_output(
-                mo.p_dc_w, modules=array.module_count, efficiency=mi.efficiency, ac_rating_w=mi.ac_rating_w,
-                max_dc_input_w=mi.max_dc_input_w, inputs=mi.inputs))
+            limits = dict(efficiency=mi.efficiency, ac_rating_w=mi.ac_rating_w, max_dc_input_w=mi.max_dc_input_w)
+            if fp is None or fp.per_module_w is None:
+                part = conversion.microinverter_output(mo.p_dc_w, modules=array.module_count, inputs=mi.inputs,
+                                                       **limits)
+            else:  # shaded modules differ: each unit converts its own modules' power
+                units = [fp.per_module_w[i:i + mi.inputs] for i in range(0, array.module_count, mi.inputs)]
+                part = _sum([conversion.microinverter_output(u.mean(axis=0), modules=len(u), inputs=len(u), **limits)
+                             for u in units], n)
+            ac_parts[array.side].append(part)
+            clipped[array.name] = part.clipped_w
             potential_ac += per_array[array.name]
     dc_parts = []
     for name, members in by_controller.items():
         c = sc.controllers[name]
         first, mo = members[0]
-        dc_parts.append(conversion.controller_output(
-            sum(per_array[a.name] for a, _ in members), efficiency=c.efficiency,
+        total = sum(per_array[a.name] for a, _ in members)
+        part = conversion.controller_output(
+            total, efficiency=c.efficiency,
             max_charge_current_a=c.max_charge_current_a, battery_nominal_v=sc.battery.nominal_v,
-            max_input_current_a=c.max_input_current_a, vmp_string_v=mo.vmp_v * first.modules_per_string))
+            max_input_current_a=c.max_input_current_a, vmp_string_v=mo.vmp_v * first.modules_per_string)
+        dc_parts.append(part)
+        for a, _ in members:  # a shared controller's clipping, split in proportion to each array's power
+            clipped[a.name] = part.clipped_w * np.divide(per_array[a.name], total, out=np.zeros(n), where=total > 0)
     dc = _sum(dc_parts, n)
     acb, acg = _sum(ac_parts["backed_up"], n), _sum(ac_parts["grid"], n)
     return SourcePower(potential_dc_w=potential_dc, potential_ac_w=potential_ac, clipped_dc_w=dc.clipped_w,
                        clipped_ac_w=acb.clipped_w + acg.clipped_w, dc=dc, ac_backed=acb, ac_grid=acg,
-                       per_array_dc_w=per_array)
+                       per_array_dc_w=per_array, per_array_clipped_w=clipped, per_array_chain=chain)
 
 
 def dispatch_params(sc: Scenario, dt_h: float) -> dispatch.DispatchParams:

@@ -209,6 +209,14 @@ MEANINGS: dict[str, str] = {
     "[measured] timezone": "IANA time zone of naive timestamps in the export; the site's when absent.",
     "[measured] weather_path": "Measured weather of the same period (optional): fits hour by hour instead of on "
                                "clear-sky days.",
+    "[expansion] face": "The [[faces]] entry the new panels go on: they take its orientation, mount, losses, "
+                        "layout and surroundings (shading per module and substring).",
+    "[modules.NAME] cells_in_series": "Cells in series in one module (for its I-V curve); estimated from Voc when "
+                                      "absent.",
+    "[simulation] mppt_tracker": "How a charge controller finds a shaded string's maximum power point: 'global' "
+                                 "(a scanning tracker) or 'local' (one that stops on the first peak).",
+    "[simulation] sub_hourly_sun": "Irradiance inside each hour when the step is finer than the weather's: "
+                                   "'synthetic' (stochastic minutes that keep each hour's mean) or 'smooth'.",
     "[design] module": "The module type the design search may add.",
     "[design] new_modules_max": "Most modules the search may add.",
     "[design] faces": "Faces it may use; every face with room when left out.",

@@ -41,6 +41,7 @@ from explorer.views import (  # noqa: E402
     sweep,
 )
 from explorer.views import calibration as calibration_view  # noqa: E402
+from explorer.views import losses as losses_view  # noqa: E402
 
 SAMPLES = ROOT / "sample_sites"
 
@@ -55,6 +56,7 @@ VIEWS = (
     ("Best layouts", design.render),
     ("Checks", checks.render),
     ("Outages", outages.render),
+    ("Losses and shade", losses_view.render_tab),
     ("Data files", data_files.render),
     ("Calibration", None),  # drawn from the scenario as loaded (below), not from the what-if
     ("Save and report", report.render),

@@ -32,6 +32,9 @@ def __getattr__(name: str):
 def draw(chart) -> None:
     """Put a chart on the page. The specification is built without Altair's schema validation, which costs more
     than the rest of a chart's work on every rerun; tests/test_charts.py validates every builder instead."""
+    import altair as alt
     import streamlit as st
 
-    st.vega_lite_chart(chart.to_dict(validate=False), width="stretch")
+    with alt.data_transformers.disable_max_rows():  # a typical day at a one-minute step has more than 5000 rows
+        spec = chart.to_dict(validate=False)
+    st.vega_lite_chart(spec, width="stretch")

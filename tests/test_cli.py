@@ -35,6 +35,13 @@ def test_simulate_json_has_the_promised_keys(sample_json):
     assert "equivalent_full_cycles" in d["battery"]
     assert len(d["months"]) == 12 and all(set(ENERGY) <= set(m) for m in d["months"])
     assert len(d["weather"]["months"]) == 12
+    assert d["step_s"] == 900
+    losses = {"horizon", "obstacles", "row_shading", "mismatch", "temperature", "clipping", "conversion",
+              "curtailment", "other"}
+    for a in d["arrays"]:
+        assert {"name", "face", "coupling", "poa_kwh", "losses_kwh", "dc_kwh", "ac_kwh"} <= set(a)
+        assert set(a["losses_kwh"]) == losses
+        assert a["poa_kwh"] - sum(a["losses_kwh"].values()) == pytest.approx(a["ac_kwh"], rel=1e-9)
 
 
 def test_simulate_balance_closes_and_months_add_up(sample_json):
@@ -58,7 +65,9 @@ def test_readable_table_and_steps_csv(tmp_path, capsys):
     assert "Balance error" in out and "Self-sufficiency" in out
     header = target.read_text(encoding="utf-8").splitlines()[0]
     assert header.startswith("interval_start,") and "grid_import_w" in header
-    assert len(target.read_text(encoding="utf-8").splitlines()) == 8761
+    # The year runs at the load's own step (15 min in the sample) and says so.
+    assert len(target.read_text(encoding="utf-8").splitlines()) == 4 * 8760 + 1
+    assert "Step: 15 min" in out
 
 
 def _bad(tmp_path: Path, text: str) -> Path:

@@ -36,7 +36,8 @@ def test_report_writes_the_html_report_and_the_steps_csv(site, capsys):
     for caution in SAFETY_CAUTIONS:  # docs/design.md §6: the cautions travel with every report
         assert html_text.escape(caution) in text
     lines = csv.read_text(encoding="utf-8").splitlines()
-    assert lines[0].startswith("interval_start,") and len(lines) == 8760 + 1  # an hourly TMY3 year
+    # one row per step of the year, at the load's own 15-minute step (the simulation's default)
+    assert lines[0].startswith("interval_start,") and len(lines) == 8760 * 4 + 1
     assert (site / "scenario.toml").read_bytes() == before  # user files are never modified
     assert "written to" in capsys.readouterr().out
 

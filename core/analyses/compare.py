@@ -39,8 +39,10 @@ from core.analyses.options import (
     layout_of,
     with_option,
 )
+from core.analyses.shading_verdict import shading_reason
 from core.analyses.validity import EXPORT_EPS_KWH, LEAK_RULE, why_set_aside
 from core.analyses.validity import failed_rules as _failed_rules
+from core.face_arrays import array_breakdown
 from core.model import economics as econ
 from core.model import metrics
 from core.scenario import Scenario
@@ -89,7 +91,8 @@ class OptionResult:
         return {"label": self.label, "simulate": self.simulation.results.to_dict(), "delta": self.delta,
                 "economics": None if self.economics is None else self.economics.to_dict(),
                 "checks": [c.to_dict() for c in self.checks], "modules": self.modules, "valid": self.valid,
-                "failed_checks": list(self.failed_rules)}
+                "failed_checks": list(self.failed_rules),
+                "arrays": array_breakdown(self.simulation)}
 
 
 @dataclass(frozen=True)
@@ -279,6 +282,8 @@ def make_verdict(sc: Scenario, results: dict[str, OptionResult], *, asked: int |
             reasons.append("DC-coupling wins here because too much of the new panels' output cannot be used as it is "
                            "made: stored, DC-coupled energy takes one conversion fewer, and a DC-coupled array is "
                            "throttled at its controller instead of being curtailed on the AC side.")
+    if shade := shading_reason(results, energy):
+        reasons.append(shade)
     for k in others:
         d = results[k].delta
         lost = d["curtailed_added_kwh"] + d["clipped_added_kwh"]

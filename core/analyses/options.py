@@ -143,6 +143,10 @@ def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scen
         return sc
     common = dict(name=EXPANSION_ARRAY, module=e.module, tilt_deg=float(lay.tilt_deg),
                   azimuth_deg=float(lay.azimuth_deg), mount=e.mount, losses_pct=e.losses_pct, row_pitch_m=e.row_pitch_m)
+    face = next((f for f in sc.faces if f.name == e.face), None) if e.face else None
+    if face is not None:  # on a named face the panels take its orientation, mount and shading
+        common.update(face=face.name, tilt_deg=face.tilt_deg, azimuth_deg=face.azimuth_deg, mount=face.mount,
+                      losses_pct=face.losses_pct, row_pitch_m=face.row_pitch_m)
     if option.is_ac:
         if e.microinverter is None:
             raise InputError("the AC-coupled option needs a microinverter", where="expansion.microinverter")

@@ -112,6 +112,8 @@ def cross_check(sc: Scenario, r: Reader) -> None:
             ref(e.microinverter, sc.microinverters, "expansion.microinverter", "microinverter")
         if e.controller is not None:
             ref(e.controller, sc.controllers, "expansion.controller", "controller")
+        if e.face is not None:
+            ref(e.face, faces, "expansion.face", "face")
     check_measured(sc, r)
 
 

@@ -90,6 +90,7 @@ class Module:
     alpha_isc_pct_per_c: float = field(default=0.05, metadata=_num(0, 0.5))
     length_m: float = field(default=1.7, metadata=_num(0.2, 4))
     width_m: float = field(default=1.1, metadata=_num(0.2, 3))
+    cells_in_series: int | None = field(default=None, metadata=_num(1, 300))  # None = estimated from voc_v
     price: float | None = field(default=None, metadata=_num(0, 1e6))  # per unit, in the tariff's currency
 
 
@@ -255,6 +256,7 @@ class Expansion:
     mount: Literal["rack", "flush"] = "flush"
     losses_pct: float = field(default=10.0, metadata=_num(0, 99))
     row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
+    face: str | None = None  # the [[faces]] entry the new panels go on (they take its orientation and shading)
     microinverter: str | None = None  # AC option
     controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
     modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
@@ -289,6 +291,10 @@ class SimulationSettings:
     step_s: int | None = field(default=None, metadata=_num(60, 3600))
     design_low_temp_c: float | None = field(default=None, metadata=_num(-60, 40))
     design_high_temp_c: float | None = field(default=None, metadata=_num(0, 90))
+    # Strings on a shaded face: a scanning tracker finds the global maximum; a hill-climbing one the first it meets.
+    mppt_tracker: Literal["global", "local"] = "global"
+    # Irradiance inside each hour of an hourly weather file at a finer step: synthetic minutes or a smooth curve.
+    sub_hourly_sun: Literal["synthetic", "smooth"] = "synthetic"
 
 
 @dataclass(frozen=True)

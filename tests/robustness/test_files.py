@@ -43,7 +43,8 @@ def test_simulate_with_steps_csv_leaves_the_inputs_alone(simulated_once):
     assert after == before  # same names, sizes and SHA-256 of every file in the site folder
     assert sorted(p.name for p in out.iterdir()) == ["steps.csv"]  # no temporary file left behind
     lines = (out / "steps.csv").read_text(encoding="utf-8").splitlines()
-    assert lines[0].startswith("interval_start,") and len(lines) == 8760 + 1  # a full hourly year
+    # A full year at the load's own 15-minute step (the default step).
+    assert lines[0].startswith("interval_start,") and len(lines) == 4 * 8760 + 1
 
 
 @pytest.mark.parametrize("target", INPUT_NAMES)
