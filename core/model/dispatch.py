@@ -38,7 +38,8 @@ cached on disk), and ``dispatch(..., compiled=False)`` runs the same code as pla
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
+from enum import IntEnum
 
 import numpy as np
 
@@ -57,6 +58,10 @@ FLOWS = (
     "inverter_pv_dc_w",  # DC input of the inverter that came straight from DC PV
 )
 _F = {name: i for i, name in enumerate(FLOWS)}
+
+#: Row indices of the flows, generated from FLOWS (``Flow.soc_wh`` is 0): the compiled kernel reads them as
+#: constants, and a flow added to FLOWS gets its index without anyone keeping a second list in step.
+Flow = IntEnum("Flow", _F)
 
 
 @dataclass(frozen=True)
@@ -81,6 +86,17 @@ class DispatchParams:
     limiter: bool
     recharge_reserve_from_grid: bool
 
+    def packed(self) -> np.ndarray:
+        """The scalar parameters as one float array in the order of :data:`Param` (flags as 0.0 / 1.0)."""
+        return np.array([float(getattr(self, name)) for name in _PARAM_NAMES])
+
+
+#: The tables of DispatchParams, passed to the kernel as arrays of their own; every other field is a scalar.
+_TABLES = ("inverter_ac_w", "inverter_dc_w")
+_PARAM_NAMES = tuple(f.name for f in fields(DispatchParams) if f.name not in _TABLES)
+#: Positions of the scalar parameters in the packed record, generated from DispatchParams' fields.
+Param = IntEnum("Param", {name: i for i, name in enumerate(_PARAM_NAMES)})
+
 
 @dataclass(frozen=True)
 class DispatchInputs:
@@ -93,6 +109,14 @@ class DispatchInputs:
     ac_grid_out_w: np.ndarray  # microinverters on the grid side
     ac_grid_loss_w: np.ndarray
     grid_up: np.ndarray  # bool
+
+
+#: The per-step series: loads (shared by the variants of a batch) and sources (one set per variant), in the
+#: order of the rows the kernel reads them from.
+LOADS = ("load_backed_w", "load_grid_only_w")
+SOURCES = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
+Load = IntEnum("Load", {name: i for i, name in enumerate(LOADS)})
+Source = IntEnum("Source", {name: i for i, name in enumerate(SOURCES)})
 
 
 @dataclass(frozen=True)
@@ -131,20 +155,54 @@ def _interp(x, xp, fp):
     return slope * (x - xp[lo]) + fp[lo]
 
 
-def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
-            dt, usable, e0, reserve, floor, ch_max, dis_max, rte, inv_ac, inv_dc,
-            chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim, limiter, recharge, out):
-    eta = math.sqrt(rte)
+def _serve(want_ac, dc_avail, dis_room, inv_ac, inv_dc):
+    """The inverter serves ``want_ac`` W of AC from DC PV first, then the battery (grid up or down alike).
+
+    Returns ``(inverter DC input, inverter AC output, DC PV used, battery used, fully served)``; when DC PV and
+    battery together fall short, the inverter delivers what their sum converts to.
+    """
+    dc_need = _interp(want_ac, inv_ac, inv_dc)
+    use_dc = min(dc_need, dc_avail)
+    use_b = min(dc_need - use_dc, dis_room)
+    if dc_need - use_dc - use_b > 1e-12:
+        p_dc = use_dc + use_b
+        return p_dc, _interp(p_dc, inv_dc, inv_ac), use_dc, use_b, False
+    return dc_need, want_ac, use_dc, use_b, True
+
+
+def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
+    """One variant's year: ``loads`` rows as :data:`Load`, ``src`` rows as :data:`Source`, ``par`` as
+    :data:`Param`; writes every row of ``out`` (:data:`Flow`) for every step."""
+    dt = par[Param.dt_h]
+    usable = par[Param.usable_wh]
+    reserve = par[Param.reserve_wh]
+    floor = par[Param.floor_wh]
+    ch_max = par[Param.charge_max_w]
+    dis_max = par[Param.discharge_max_w]
+    chg_rating = par[Param.charger_rating_w]
+    chg_eff = par[Param.charger_efficiency]
+    idle = par[Param.idle_w]
+    sd = par[Param.standing_draw_w]
+    site = par[Param.metering_site] != 0.0
+    exp_ok = par[Param.export_allowed] != 0.0
+    exp_lim = par[Param.export_limit_w]
+    limiter = par[Param.limiter] != 0.0
+    recharge = par[Param.recharge_reserve_from_grid] != 0.0
+    eta = math.sqrt(par[Param.roundtrip_efficiency])
     rating = inv_ac[-1]
-    e = e0
-    for t in range(lb.shape[0]):
-        dc = dco[t]
-        acb = abo[t]
-        acg = ago[t]
+    lb_all = loads[Load.load_backed_w]
+    lg_all = loads[Load.load_grid_only_w]
+    e = par[Param.initial_wh]
+    for t in range(lb_all.shape[0]):
+        lb = lb_all[t]
+        lg = lg_all[t]
+        dc = src[Source.dc_out_w, t]
+        ac_backed = src[Source.ac_backed_out_w, t]
+        ac_grid = src[Source.ac_grid_out_w, t]
         # module-side power per unit of output, to count curtailment on the module side
-        r_dc = 1.0 + dcl[t] / dc if dc > 0.0 else 1.0
-        r_ab = 1.0 + abl[t] / acb if acb > 0.0 else 1.0
-        r_ag = 1.0 + agl[t] / ago[t] if ago[t] > 0.0 else 1.0
+        r_dc = 1.0 + src[Source.dc_loss_w, t] / dc if dc > 0.0 else 1.0
+        r_ab = 1.0 + src[Source.ac_backed_loss_w, t] / ac_backed if ac_backed > 0.0 else 1.0
+        r_ag = 1.0 + src[Source.ac_grid_loss_w, t] / ac_grid if ac_grid > 0.0 else 1.0
         grid = up[t]
         low = reserve if grid else floor
         dis_room = max(0.0, min(dis_max, (e - low) * eta / dt))
@@ -165,8 +223,8 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
         unserved = 0.0
         standing = 0.0
         if not grid:  # anti-islanding: grid-side microinverters stop
-            curt_ag = acg * r_ag
-            acg = 0.0
+            curt_ag = ac_grid * r_ag
+            ac_grid = 0.0
 
         # 1. idle draw: DC PV, then battery, then (grid up) the grid through the charger
         from_dc = min(idle, dc)
@@ -193,27 +251,20 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
         else:
             dc_avail = dc
             idle_used = 0.0
-            curt_ab = acb * r_ab
-            acb = 0.0
+            curt_ab = ac_backed * r_ab
+            ac_backed = 0.0
 
         if grid:
             if site:
-                n = lb[t] + lg[t] - acb - acg
+                n = lb + lg - ac_backed - ac_grid
                 outside = 0.0
             else:
-                n = lb[t] - acb
-                outside = lg[t] - acg
+                n = lb - ac_backed
+                outside = lg - ac_grid
             if n > sd:
-                want = min(n - sd, rating)
-                dc_need = _interp(want, inv_ac, inv_dc)
-                use_dc = min(dc_need, dc_avail)
-                use_b = min(dc_need - use_dc, dis_room)
-                if dc_need - use_dc - use_b > 1e-12:
-                    inv_p_dc = use_dc + use_b
-                    inv_p_ac = _interp(inv_p_dc, inv_dc, inv_ac)
-                else:
-                    inv_p_dc = dc_need
-                    inv_p_ac = want
+                inv_p_dc, inv_p_ac, use_dc, use_b, full = _serve(min(n - sd, rating), dc_avail, dis_room,
+                                                                 inv_ac, inv_dc)
+                if full:
                     standing = sd
                 dc_avail -= use_dc
                 inv_pv += use_dc
@@ -259,11 +310,11 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
             excess = export - allowed
             uncontrolled = excess
             if excess > 0.0 and limiter:  # curtail the microinverters, grid side first
-                cut = min(excess, acg)
-                acg -= cut
+                cut = min(excess, ac_grid)
+                ac_grid -= cut
                 curt_ag += cut * r_ag
-                cut2 = min(excess - cut, acb)
-                acb -= cut2
+                cut2 = min(excess - cut, ac_backed)
+                ac_backed -= cut2
                 curt_ab += cut2 * r_ab
                 g += cut + cut2
                 uncontrolled = excess - cut - cut2
@@ -278,21 +329,17 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                     chg_dc += lift
                     chg_ac += lift / chg_eff
                     imp += lift / chg_eff
-            served = lb[t] + lg[t]
-            out[_F_EXPORT_ALLOWED, t] = allowed
-            out[_F_EXPORT_UNCONTROLLED, t] = uncontrolled
-            out[_F_GRID_IMPORT, t] = imp
-            out[_F_GRID_STANDING, t] = min(imp, standing)
+            served = lb + lg
+            out[Flow.export_allowed_w, t] = allowed
+            out[Flow.export_uncontrolled_w, t] = uncontrolled
+            out[Flow.grid_import_w, t] = imp
+            out[Flow.grid_import_standing_w, t] = min(imp, standing)
         else:
             if on:
-                n = lb[t] - acb
+                n = lb - ac_backed
                 if n > 0.0:
-                    want = min(n, rating)
-                    dc_need = _interp(want, inv_ac, inv_dc)
-                    use_dc = min(dc_need, dc_avail)
-                    use_b = min(dc_need - use_dc, dis_room)
-                    inv_p_dc = use_dc + use_b
-                    inv_p_ac = _interp(inv_p_dc, inv_dc, inv_ac)
+                    inv_p_dc, inv_p_ac, use_dc, use_b, full = _serve(min(n, rating), dc_avail, dis_room,
+                                                                     inv_ac, inv_dc)
                     dc_avail -= use_dc
                     inv_pv += use_dc
                     bat_out += use_b
@@ -307,143 +354,133 @@ def _kernel(lb, lg, dco, dcl, abo, abl, ago, agl, up,
                     pv_to_bat += a * chg_eff
                     ch_room -= a * chg_eff
                     cut = s - a  # frequency-watt curtailment of the backed-up microinverters
-                    acb -= cut
+                    ac_backed -= cut
                     curt_ab += cut * r_ab
             else:
-                unserved = lb[t]
+                unserved = lb
             c = min(dc_avail, ch_room)
             bat_in += c
             pv_to_bat += c
             dc_avail -= c
-            served = lb[t] - unserved
-            unserved += lg[t]
-            out[_F_EXPORT_ALLOWED, t] = 0.0
-            out[_F_EXPORT_UNCONTROLLED, t] = 0.0
-            out[_F_GRID_IMPORT, t] = 0.0
-            out[_F_GRID_STANDING, t] = 0.0
+            served = lb - unserved
+            unserved += lg
+            out[Flow.export_allowed_w, t] = 0.0
+            out[Flow.export_uncontrolled_w, t] = 0.0
+            out[Flow.grid_import_w, t] = 0.0
+            out[Flow.grid_import_standing_w, t] = 0.0
 
         curt_dc = dc_avail  # DC PV that nothing could take: the controllers back off
         e = e + (bat_in * eta - bat_out / eta) * dt
         e = min(max(e, 0.0), usable)
-        out[_F_SOC, t] = e
-        out[_F_SERVED, t] = served
-        out[_F_UNSERVED, t] = unserved
-        out[_F_CURT_DC, t] = curt_dc * r_dc
-        out[_F_CURT_ACB, t] = curt_ab
-        out[_F_CURT_ACG, t] = curt_ag
-        out[_F_LOSS_DC, t] = (dc - curt_dc) * (r_dc - 1.0)
-        out[_F_LOSS_ACB, t] = acb * (r_ab - 1.0)
-        out[_F_LOSS_ACG, t] = acg * (r_ag - 1.0)
-        out[_F_LOSS_INV, t] = inv_p_dc - inv_p_ac
-        out[_F_IDLE, t] = idle_used
-        out[_F_LOSS_CHG, t] = chg_ac - chg_dc
-        out[_F_BAT_IN, t] = bat_in
-        out[_F_BAT_OUT, t] = bat_out
-        out[_F_LOSS_BAT, t] = bat_in * (1.0 - eta) + bat_out * (1.0 / eta - 1.0)
-        out[_F_INV_AC, t] = inv_p_ac
-        out[_F_CHG_AC, t] = chg_ac
-        out[_F_PV_BAT, t] = pv_to_bat
-        out[_F_GRID_BAT, t] = grid_to_bat
-        out[_F_DC_USED, t] = dc - curt_dc
-        out[_F_ACB_USED, t] = acb
-        out[_F_ACG_USED, t] = acg
-        out[_F_INV_PV, t] = inv_pv
+        out[Flow.soc_wh, t] = e
+        out[Flow.load_served_w, t] = served
+        out[Flow.unserved_w, t] = unserved
+        out[Flow.curtailed_dc_w, t] = curt_dc * r_dc
+        out[Flow.curtailed_acb_w, t] = curt_ab
+        out[Flow.curtailed_acg_w, t] = curt_ag
+        out[Flow.controller_loss_w, t] = (dc - curt_dc) * (r_dc - 1.0)
+        out[Flow.ac_backed_conversion_loss_w, t] = ac_backed * (r_ab - 1.0)
+        out[Flow.ac_grid_conversion_loss_w, t] = ac_grid * (r_ag - 1.0)
+        out[Flow.inverter_loss_w, t] = inv_p_dc - inv_p_ac
+        out[Flow.idle_w, t] = idle_used
+        out[Flow.charger_loss_w, t] = chg_ac - chg_dc
+        out[Flow.battery_charge_w, t] = bat_in
+        out[Flow.battery_discharge_w, t] = bat_out
+        out[Flow.battery_loss_w, t] = bat_in * (1.0 - eta) + bat_out * (1.0 / eta - 1.0)
+        out[Flow.inverter_ac_w, t] = inv_p_ac
+        out[Flow.charger_ac_w, t] = chg_ac
+        out[Flow.pv_to_battery_w, t] = pv_to_bat
+        out[Flow.grid_to_battery_w, t] = grid_to_bat
+        out[Flow.dc_used_w, t] = dc - curt_dc
+        out[Flow.ac_backed_used_w, t] = ac_backed
+        out[Flow.ac_grid_used_w, t] = ac_grid
+        out[Flow.inverter_pv_dc_w, t] = inv_pv
     return out
 
 
-# Row indices as module constants, so the compiled kernel sees plain integers.
-(_F_SOC, _F_SERVED, _F_UNSERVED, _F_GRID_IMPORT, _F_GRID_STANDING, _F_EXPORT_ALLOWED, _F_EXPORT_UNCONTROLLED,
- _F_CURT_DC, _F_CURT_ACB, _F_CURT_ACG, _F_LOSS_DC, _F_LOSS_ACB, _F_LOSS_ACG, _F_LOSS_INV, _F_IDLE, _F_LOSS_CHG,
- _F_BAT_IN, _F_BAT_OUT, _F_LOSS_BAT, _F_INV_AC, _F_CHG_AC, _F_PV_BAT, _F_GRID_BAT, _F_DC_USED, _F_ACB_USED,
- _F_ACG_USED, _F_INV_PV) = range(len(FLOWS))
+def _batch(loads, src, up, par, inv_ac, inv_dc, out):
+    """Variant ``i`` has its sources ``src[i]`` and its grid ``up[i]`` (or ``up[0]``, shared by all)."""
+    shared_up = up.shape[0] == 1
+    for i in _prange(src.shape[0]):
+        _step_loop(loads, src[i], up[0] if shared_up else up[i], par, inv_ac, inv_dc, out[i])
+    return out
 
-try:  # compiled when numba is available; the plain function stays reachable as _kernel
+
+try:  # compiled when numba is available; the plain functions stay reachable as _kernel and _batch
     import numba
 
     # Plain Python when called from Python (the plain loop), compiled inline into the compiled kernel.
     from numba.extending import register_jitable
 
     _interp = register_jitable(_interp)
+    _serve = register_jitable(_serve)
     _compiled_kernel = numba.njit(cache=True, nogil=True)(_kernel)
-except ImportError:  # pragma: no cover - numba is a declared dependency
-    _compiled_kernel = _kernel
-
-
-def _as_float(a, n: int) -> np.ndarray:
-    arr = np.ascontiguousarray(np.broadcast_to(np.asarray(a, dtype=float), (n,)))
-    return arr
-
-
-def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool = True) -> DispatchResult:
-    """Run the engine over all steps; see the module docstring for the rules."""
-    n = int(np.asarray(inputs.load_backed_w).shape[0])
-    args = [_as_float(getattr(inputs, name), n) for name in (
-        "load_backed_w", "load_grid_only_w", "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w",
-        "ac_grid_out_w", "ac_grid_loss_w")]
-    up = np.ascontiguousarray(np.broadcast_to(np.asarray(inputs.grid_up, dtype=np.bool_), (n,)))
-    p = params
-    out = np.empty((len(FLOWS), n))  # the kernel writes every flow of every step
-    kernel = _compiled_kernel if compiled else _kernel
-    kernel(*args, up, float(p.dt_h), float(p.usable_wh), float(p.initial_wh), float(p.reserve_wh),
-           float(p.floor_wh), float(p.charge_max_w), float(p.discharge_max_w), float(p.roundtrip_efficiency),
-           np.ascontiguousarray(p.inverter_ac_w, dtype=float), np.ascontiguousarray(p.inverter_dc_w, dtype=float),
-           float(p.charger_rating_w), float(p.charger_efficiency), float(p.idle_w), float(p.standing_draw_w),
-           bool(p.metering_site), bool(p.export_allowed), float(p.export_limit_w), bool(p.limiter),
-           bool(p.recharge_reserve_from_grid), out)
-    return DispatchResult(flows=out)
-
-
-def _batch(lb, lg, dco, dcl, abo, abl, ago, agl, up, dt, usable, e0, reserve, floor, ch_max, dis_max, rte,
-           inv_ac, inv_dc, chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim, limiter, recharge, out):
-    for i in _prange(dco.shape[0]):
-        _step_loop(lb, lg, dco[i], dcl[i], abo[i], abl[i], ago[i], agl[i], up, dt, usable, e0, reserve, floor,
-                   ch_max, dis_max, rte, inv_ac, inv_dc, chg_rating, chg_eff, idle, sd, site, exp_ok, exp_lim,
-                   limiter, recharge, out[i])
-    return out
-
-
-try:
     _prange = numba.prange
     _step_loop = _compiled_kernel
     _compiled_batch = numba.njit(cache=True, parallel=True)(_batch)
-except NameError:  # pragma: no cover - numba is a declared dependency
+except ImportError:  # pragma: no cover - numba is a declared dependency
+    _compiled_kernel = _kernel
     _prange = range
     _step_loop = _kernel
     _compiled_batch = _batch
 
 
+def _rows(arrays, names, n: int) -> np.ndarray:
+    """Named series (each broadcast to ``n`` steps) stacked as the rows of one C-ordered float array."""
+    return np.ascontiguousarray(np.stack([np.broadcast_to(np.asarray(arrays[k], dtype=float), (n,)) for k in names]))
+
+
+def _tables(p: DispatchParams) -> tuple[np.ndarray, np.ndarray]:
+    return tuple(np.ascontiguousarray(getattr(p, name), dtype=float) for name in _TABLES)
+
+
+def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool = True) -> DispatchResult:
+    """Run the engine over all steps; see the module docstring for the rules."""
+    n = int(np.asarray(inputs.load_backed_w).shape[0])
+    series = vars(inputs)
+    up = np.ascontiguousarray(np.broadcast_to(np.asarray(inputs.grid_up, dtype=np.bool_), (n,)))
+    out = np.empty((len(FLOWS), n))  # the kernel writes every flow of every step
+    kernel = _compiled_kernel if compiled else _kernel
+    kernel(_rows(series, LOADS, n), _rows(series, SOURCES, n), up, params.packed(), *_tables(params), out)
+    return DispatchResult(flows=out)
+
+
 def dispatch_many(load_backed_w, load_grid_only_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
                   *, compiled: bool = True, out: np.ndarray | None = None) -> np.ndarray:
-    """Run the engine for many source variants that share loads, grid and plant (a sweep).
+    """Run the engine for many variants that share loads and plant (a sweep, or many outage years).
 
-    ``sources`` maps ``dc_out_w``, ``dc_loss_w``, ``ac_backed_out_w``, ``ac_backed_loss_w``,
-    ``ac_grid_out_w`` and ``ac_grid_loss_w`` to arrays of shape (variants, steps). Returns the flows
+    ``sources`` maps each name of :data:`SOURCES` to an array of shape (variants, steps) or (steps,) (the
+    same for every variant); ``grid_up`` has shape (steps,) (shared) or (variants, steps). Returns the flows
     with shape (variants, len(FLOWS), steps); variant ``i`` equals ``dispatch`` on row ``i``.
 
     ``out``: an array of that shape (float64, C order) to write the flows into, e.g. one buffer reused
     batch after batch, so that a sweep does not fault in fresh memory for every batch (docs/performance.md).
     """
-    lb = np.ascontiguousarray(load_backed_w, dtype=float)
+    lb = np.asarray(load_backed_w, dtype=float)
     n = lb.shape[0]
-    rows = [np.ascontiguousarray(np.asarray(sources[k], dtype=float).reshape(-1, n)) for k in (
-        "dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")]
-    k = rows[0].shape[0]
+    up = np.ascontiguousarray(np.asarray(grid_up, dtype=np.bool_).reshape(-1, n))
+    per_source = [np.asarray(sources[k], dtype=float).reshape(-1, n) for k in SOURCES]
+    k = max([r.shape[0] for r in per_source] + [up.shape[0]])
+    src = np.empty((k, len(SOURCES), n))
+    for j, r in enumerate(per_source):
+        src[:, j, :] = r
     if out is None:
         out = np.empty((k, len(FLOWS), n))  # the kernel writes every flow of every step
     elif out.shape != (k, len(FLOWS), n) or out.dtype != np.float64 or not out.flags.c_contiguous:
         raise ValueError(f"out must be a C-ordered float64 array of shape {(k, len(FLOWS), n)}")
-    p = params
-    args = (lb, _as_float(load_grid_only_w, n), *rows,
-            np.ascontiguousarray(np.broadcast_to(np.asarray(grid_up, dtype=np.bool_), (n,))),
-            float(p.dt_h), float(p.usable_wh), float(p.initial_wh), float(p.reserve_wh), float(p.floor_wh),
-            float(p.charge_max_w), float(p.discharge_max_w), float(p.roundtrip_efficiency),
-            np.ascontiguousarray(p.inverter_ac_w, dtype=float), np.ascontiguousarray(p.inverter_dc_w, dtype=float),
-            float(p.charger_rating_w), float(p.charger_efficiency), float(p.idle_w), float(p.standing_draw_w),
-            bool(p.metering_site), bool(p.export_allowed), float(p.export_limit_w), bool(p.limiter),
-            bool(p.recharge_reserve_from_grid), out)
+    if up.shape[0] not in (1, k):
+        raise ValueError(f"grid_up must have shape ({n},) or ({k}, {n})")
+    loads = _rows({"load_backed_w": lb, "load_grid_only_w": load_grid_only_w}, LOADS, n)
+    args = (loads, src, up, params.packed(), *_tables(params), out)
     if compiled:
         _compiled_batch(*args)
     else:
-        for i in range(k):
-            _kernel(*args[:2], *(r[i] for r in rows), *args[8:-1], out[i])
+        _plain_batch(*args)
+    return out
+
+
+def _plain_batch(loads, src, up, par, inv_ac, inv_dc, out):
+    """:func:`_batch` as plain Python, the one-variant kernel plain too."""
+    for i in range(src.shape[0]):
+        _kernel(loads, src[i], up[0] if up.shape[0] == 1 else up[i], par, inv_ac, inv_dc, out[i])
     return out
