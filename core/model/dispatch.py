@@ -56,6 +56,14 @@ FLOWS = (
     "pv_to_battery_w", "grid_to_battery_w",  # bus-side charge by origin
     "dc_used_w", "ac_backed_used_w", "ac_grid_used_w",  # converter outputs actually used
     "inverter_pv_dc_w",  # DC input of the inverter that came straight from DC PV
+    # The parts of unserved_w: backed-up load not served (a failure) and grid-only load shed by design.
+    "unserved_backed_up_w", "shed_grid_only_w",
+    # Where AC-coupled output was held back (module side; parts of curtailed_acb_w + curtailed_acg_w):
+    "curtailed_limiter_w",  # an export limiter while grid-tied
+    "curtailed_fw_w",  # frequency-watt response while the backed-up side runs off-grid (outage or islanded)
+    "curtailed_relay_w",  # the SOC relay has opened the microinverter circuit
+    "curtailed_wait_w",  # microinverters waiting their reconnect delay after an interruption or the relay
+    "islanded",  # 1.0 while the backed-up side runs off-grid with the grid up (ac_control = "islanded")
 )
 _F = {name: i for i, name in enumerate(FLOWS)}
 
@@ -85,6 +93,17 @@ class DispatchParams:
     export_limit_w: float
     limiter: bool
     recharge_reserve_from_grid: bool
+    # Charge acceptance: full power up to taper_start_wh, then falling linearly with the stored energy to
+    # taper_end_fraction of it at full (inf: no taper); the discharge limit falls linearly to 0 below
+    # discharge_taper_wh (0: none).
+    taper_start_wh: float = math.inf
+    taper_end_fraction: float = 0.05
+    discharge_taper_wh: float = 0.0
+    ac_control: int = 0  # AC_NONE, AC_LIMITER, AC_ISLANDED or AC_RELAY
+    relay_open_wh: float = math.inf  # the relay opens at or above this stored energy …
+    relay_close_wh: float = 0.0  # … and closes again at or below this one
+    reconnect_s: float = 0.0  # microinverters wait this long after every reconnection before producing
+    charge_window_target_wh: float = 0.0  # the grid lifts the battery to this inside the charge window
 
     def packed(self) -> np.ndarray:
         """The scalar parameters as one float array in the order of :data:`Param` (flags as 0.0 / 1.0)."""
@@ -93,6 +112,10 @@ class DispatchParams:
 
 #: The tables of DispatchParams, passed to the kernel as arrays of their own; every other field is a scalar.
 _TABLES = ("inverter_ac_w", "inverter_dc_w")
+#: Codes of ``ac_control`` (the scenario's ``grid.ac_control`` words, in this order).
+AC_NONE, AC_LIMITER, AC_ISLANDED, AC_RELAY = range(4)
+AC_CONTROL_CODES = {"none": AC_NONE, "limiter": AC_LIMITER, "islanded": AC_ISLANDED, "relay": AC_RELAY}
+
 _PARAM_NAMES = tuple(f.name for f in fields(DispatchParams) if f.name not in _TABLES)
 #: Positions of the scalar parameters in the packed record, generated from DispatchParams' fields.
 Param = IntEnum("Param", {name: i for i, name in enumerate(_PARAM_NAMES)})
@@ -109,11 +132,12 @@ class DispatchInputs:
     ac_grid_out_w: np.ndarray  # microinverters on the grid side
     ac_grid_loss_w: np.ndarray
     grid_up: np.ndarray  # bool
+    charge_window: np.ndarray | float = 0.0  # 1.0 in steps inside the grid-charging window (local clock)
 
 
-#: The per-step series: loads (shared by the variants of a batch) and sources (one set per variant), in the
-#: order of the rows the kernel reads them from.
-LOADS = ("load_backed_w", "load_grid_only_w")
+#: The per-step series: loads and the charge window (shared by the variants of a batch) and sources (one set
+#: per variant), in the order of the rows the kernel reads them from.
+LOADS = ("load_backed_w", "load_grid_only_w", "charge_window")
 SOURCES = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
 Load = IntEnum("Load", {name: i for i, name in enumerate(LOADS)})
 Source = IntEnum("Source", {name: i for i, name in enumerate(SOURCES)})
@@ -170,10 +194,38 @@ def _serve(want_ac, dc_avail, dis_room, inv_ac, inv_dc):
     return dc_need, want_ac, use_dc, use_b, True
 
 
+def _charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction):
+    """Mean bus-side power the battery accepts over a step that starts with ``e`` Wh stored.
+
+    Acceptance is ``ch_max`` up to ``taper_wh`` and falls linearly with the stored energy to
+    ``end_fraction × ch_max`` at ``usable`` (the constant-current then constant-voltage charge of a lithium
+    battery, its current tail drawn as a straight line in the SOC). Charging at the limit, the stored energy
+    follows ``dE/dt = η · P(E)``, integrated exactly over the step, so the taper does not depend on the step.
+    """
+    if ch_max <= 0.0 or dt <= 0.0:
+        return 0.0
+    if e < taper_wh:
+        t_cc = (taper_wh - e) / (eta * ch_max)  # hours at full power before the knee
+        if t_cc >= dt or taper_wh >= usable:
+            return ch_max
+        e_knee = taper_wh
+        t_left = dt - t_cc
+    else:
+        e_knee = e
+        t_left = dt
+    slope = ch_max * (1.0 - end_fraction) / max(usable - taper_wh, 1e-9)  # W per Wh above the knee
+    if slope <= 0.0:
+        return ch_max
+    e_star = taper_wh + ch_max / slope  # where acceptance would reach zero
+    e_end = e_star - (e_star - e_knee) * math.exp(-eta * slope * t_left)
+    return max(0.0, (e_end - e) / (eta * dt))
+
+
 def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
     """One variant's year: ``loads`` rows as :data:`Load`, ``src`` rows as :data:`Source`, ``par`` as
     :data:`Param`; writes every row of ``out`` (:data:`Flow`) for every step."""
     dt = par[Param.dt_h]
+    step_s = dt * 3600.0
     usable = par[Param.usable_wh]
     reserve = par[Param.reserve_wh]
     floor = par[Param.floor_wh]
@@ -186,13 +238,26 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
     site = par[Param.metering_site] != 0.0
     exp_ok = par[Param.export_allowed] != 0.0
     exp_lim = par[Param.export_limit_w]
-    limiter = par[Param.limiter] != 0.0
+    mode = int(par[Param.ac_control])
+    limiter = par[Param.limiter] != 0.0 or mode == AC_LIMITER
     recharge = par[Param.recharge_reserve_from_grid] != 0.0
+    taper_wh = par[Param.taper_start_wh]
+    end_fraction = par[Param.taper_end_fraction]
+    dis_taper_wh = par[Param.discharge_taper_wh]
+    relay_open = par[Param.relay_open_wh]
+    relay_close = par[Param.relay_close_wh]
+    reconnect_s = par[Param.reconnect_s]
+    window_target = par[Param.charge_window_target_wh]
     eta = math.sqrt(par[Param.roundtrip_efficiency])
     rating = inv_ac[-1]
     lb_all = loads[Load.load_backed_w]
     lg_all = loads[Load.load_grid_only_w]
+    window_all = loads[Load.charge_window]
     e = par[Param.initial_wh]
+    relay_closed = True
+    wait_ab = 0.0  # seconds the backed-up microinverters still wait before producing
+    wait_ag = 0.0  # the same for the grid-side ones
+    was_up = True
     for t in range(lb_all.shape[0]):
         lb = lb_all[t]
         lg = lg_all[t]
@@ -204,9 +269,57 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         r_ab = 1.0 + src[Source.ac_backed_loss_w, t] / ac_backed if ac_backed > 0.0 else 1.0
         r_ag = 1.0 + src[Source.ac_grid_loss_w, t] / ac_grid if ac_grid > 0.0 else 1.0
         grid = up[t]
-        low = reserve if grid else floor
-        dis_room = max(0.0, min(dis_max, (e - low) * eta / dt))
-        ch_room = max(0.0, min(ch_max, (usable - e) / (eta * dt)))
+        curt_ab = 0.0
+        curt_ag = 0.0
+        curt_lim = 0.0
+        curt_fw = 0.0
+        curt_relay = 0.0
+        curt_wait = 0.0
+        if not grid:  # anti-islanding: grid-side microinverters stop
+            curt_ag = ac_grid * r_ag
+            ac_grid = 0.0
+        elif not was_up:  # the grid is back: grid-side microinverters wait their reconnect delay
+            wait_ag = reconnect_s
+        was_up = grid
+        if mode == AC_RELAY:  # hysteresis: open at the upper threshold, close at the lower one
+            if relay_closed and e >= relay_open:
+                relay_closed = False
+            elif not relay_closed and e <= relay_close:
+                relay_closed = True
+                wait_ab = reconnect_s
+                wait_ag = max(wait_ag, reconnect_s)
+            if not relay_closed:
+                curt_relay = ac_backed * r_ab + ac_grid * r_ag
+                curt_ab += ac_backed * r_ab
+                curt_ag += ac_grid * r_ag
+                ac_backed = 0.0
+                ac_grid = 0.0
+        if wait_ab > 0.0:
+            lost = ac_backed * min(1.0, wait_ab / step_s)
+            ac_backed -= lost
+            curt_ab += lost * r_ab
+            curt_wait += lost * r_ab
+            wait_ab = max(0.0, wait_ab - step_s)
+        if wait_ag > 0.0 and grid:
+            lost = ac_grid * min(1.0, wait_ag / step_s)
+            ac_grid -= lost
+            curt_ag += lost * r_ag
+            curt_wait += lost * r_ag
+            wait_ag = max(0.0, wait_ag - step_s)
+        dis_lim = dis_max if e >= dis_taper_wh else dis_max * e / dis_taper_wh
+        # ac_control = "islanded": the backed-up side stays off-grid while DC PV and the battery above the
+        # reserve carry the idle draw and the backed-up loads; otherwise it connects for the step.
+        island = False
+        if grid and mode == AC_ISLANDED and e > reserve:
+            supply = dc + max(0.0, min(dis_lim, (e - reserve) * eta / dt))
+            deficit = lb - ac_backed
+            need = idle + (_interp(deficit, inv_ac, inv_dc) if deficit > 0.0 else 0.0)
+            island = deficit <= rating and need <= supply
+        bus_grid = grid and not island  # the backed-up side is connected to the grid
+        low = reserve if grid else floor  # islanded with the grid up, the reserve is still kept
+        dis_room = max(0.0, min(dis_lim, (e - low) * eta / dt))
+        ch_room = max(0.0, min(_charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction),
+                               (usable - e) / (eta * dt)))
         chg_cap = chg_rating
         bat_in = 0.0
         bat_out = 0.0
@@ -218,13 +331,8 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         inv_p_dc = 0.0
         g = 0.0  # grid power at the site, import positive
         inv_pv = 0.0
-        curt_ab = 0.0
-        curt_ag = 0.0
         unserved = 0.0
         standing = 0.0
-        if not grid:  # anti-islanding: grid-side microinverters stop
-            curt_ag = ac_grid * r_ag
-            ac_grid = 0.0
 
         # 1. idle draw: DC PV, then battery, then (grid up) the grid through the charger
         from_dc = min(idle, dc)
@@ -233,7 +341,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         need -= from_b
         on = True
         if need > 1e-12:
-            if grid:
+            if bus_grid:
                 ac = need / chg_eff
                 chg_ac += ac
                 chg_dc += need
@@ -246,15 +354,17 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
             bat_out += from_b
             dis_room -= from_b
             # energy drawn for the idle load frees the same room for charging later in the step
-            ch_room = max(0.0, min(ch_max, (usable - e + from_b / eta * dt) / (eta * dt)))
+            e_idle = e - from_b / eta * dt
+            ch_room = max(0.0, min(_charge_limit(e_idle, dt, eta, ch_max, usable, taper_wh, end_fraction),
+                                   (usable - e_idle) / (eta * dt)))
             idle_used = idle
         else:
             dc_avail = dc
             idle_used = 0.0
-            curt_ab = ac_backed * r_ab
+            curt_ab += ac_backed * r_ab
             ac_backed = 0.0
 
-        if grid:
+        if bus_grid:
             if site:
                 n = lb + lg - ac_backed - ac_grid
                 outside = 0.0
@@ -316,13 +426,17 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
                 cut2 = min(excess - cut, ac_backed)
                 ac_backed -= cut2
                 curt_ab += cut2 * r_ab
+                curt_lim += cut * r_ag + cut2 * r_ab
                 g += cut + cut2
                 uncontrolled = excess - cut - cut2
             imp = max(0.0, g)
-            # 4. lift the SOC back to the reserve from the grid
+            # 4. lift the SOC from the grid: back to the reserve, and inside the charge window to its target
             e_after = e + (bat_in * eta - bat_out / eta) * dt
-            if recharge and e_after < reserve:
-                lift = min((reserve - e_after) / (eta * dt), ch_room, chg_cap * chg_eff)
+            target = reserve if recharge else 0.0
+            if window_all[t] > 0.0 and window_target > target:
+                target = window_target
+            if e_after < target:
+                lift = min((target - e_after) / (eta * dt), ch_room, chg_cap * chg_eff)
                 if lift > 0.0:
                     bat_in += lift
                     grid_to_bat += lift
@@ -330,10 +444,8 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
                     chg_ac += lift / chg_eff
                     imp += lift / chg_eff
             served = lb + lg
-            out[Flow.export_allowed_w, t] = allowed
-            out[Flow.export_uncontrolled_w, t] = uncontrolled
-            out[Flow.grid_import_w, t] = imp
-            out[Flow.grid_import_standing_w, t] = min(imp, standing)
+            shed = 0.0
+            out[Flow.islanded, t] = 0.0
         else:
             if on:
                 n = lb - ac_backed
@@ -356,6 +468,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
                     cut = s - a  # frequency-watt curtailment of the backed-up microinverters
                     ac_backed -= cut
                     curt_ab += cut * r_ab
+                    curt_fw += cut * r_ab
             else:
                 unserved = lb
             c = min(dc_avail, ch_room)
@@ -363,11 +476,25 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
             pv_to_bat += c
             dc_avail -= c
             served = lb - unserved
-            unserved += lg
-            out[Flow.export_allowed_w, t] = 0.0
-            out[Flow.export_uncontrolled_w, t] = 0.0
-            out[Flow.grid_import_w, t] = 0.0
-            out[Flow.grid_import_standing_w, t] = 0.0
+            allowed = 0.0
+            uncontrolled = 0.0
+            imp = 0.0
+            if grid:  # islanded: the grid side still has the grid (its microinverters feed it directly)
+                served += lg
+                shed = 0.0
+                imp = max(0.0, lg - ac_grid)
+                export = max(0.0, ac_grid - lg)
+                allowed = min(export, exp_lim) if exp_ok else 0.0
+                uncontrolled = export - allowed
+                out[Flow.islanded, t] = 1.0
+            else:
+                shed = lg
+                out[Flow.islanded, t] = 0.0
+            unserved += shed
+        out[Flow.export_allowed_w, t] = allowed
+        out[Flow.export_uncontrolled_w, t] = uncontrolled
+        out[Flow.grid_import_w, t] = imp
+        out[Flow.grid_import_standing_w, t] = min(imp, standing)
 
         curt_dc = dc_avail  # DC PV that nothing could take: the controllers back off
         e = e + (bat_in * eta - bat_out / eta) * dt
@@ -375,6 +502,12 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         out[Flow.soc_wh, t] = e
         out[Flow.load_served_w, t] = served
         out[Flow.unserved_w, t] = unserved
+        out[Flow.unserved_backed_up_w, t] = unserved - shed
+        out[Flow.shed_grid_only_w, t] = shed
+        out[Flow.curtailed_limiter_w, t] = curt_lim
+        out[Flow.curtailed_fw_w, t] = curt_fw
+        out[Flow.curtailed_relay_w, t] = curt_relay
+        out[Flow.curtailed_wait_w, t] = curt_wait
         out[Flow.curtailed_dc_w, t] = curt_dc * r_dc
         out[Flow.curtailed_acb_w, t] = curt_ab
         out[Flow.curtailed_acg_w, t] = curt_ag
@@ -414,6 +547,7 @@ try:  # compiled when numba is available; the plain functions stay reachable as 
 
     _interp = register_jitable(_interp)
     _serve = register_jitable(_serve)
+    _charge_limit = register_jitable(_charge_limit)
     _compiled_kernel = numba.njit(cache=True, nogil=True)(_kernel)
     _prange = numba.prange
     _step_loop = _compiled_kernel
@@ -446,7 +580,7 @@ def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool =
 
 
 def dispatch_many(load_backed_w, load_grid_only_w, grid_up, sources: dict[str, np.ndarray], params: DispatchParams,
-                  *, compiled: bool = True, out: np.ndarray | None = None) -> np.ndarray:
+                  *, compiled: bool = True, out: np.ndarray | None = None, charge_window=0.0) -> np.ndarray:
     """Run the engine for many variants that share loads and plant (a sweep, or many outage years).
 
     ``sources`` maps each name of :data:`SOURCES` to an array of shape (variants, steps) or (steps,) (the
@@ -470,7 +604,8 @@ def dispatch_many(load_backed_w, load_grid_only_w, grid_up, sources: dict[str, n
         raise ValueError(f"out must be a C-ordered float64 array of shape {(k, len(FLOWS), n)}")
     if up.shape[0] not in (1, k):
         raise ValueError(f"grid_up must have shape ({n},) or ({k}, {n})")
-    loads = _rows({"load_backed_w": lb, "load_grid_only_w": load_grid_only_w}, LOADS, n)
+    loads = _rows({"load_backed_w": lb, "load_grid_only_w": load_grid_only_w, "charge_window": charge_window},
+                  LOADS, n)
     args = (loads, src, up, params.packed(), *_tables(params), out)
     if compiled:
         _compiled_batch(*args)
