@@ -39,7 +39,9 @@ def format_year_table(result: dict) -> str:
     """A readable table of the year's figures (kWh without decimals, ratios as % with one decimal)."""
     e = result["energy_kwh"]
     rows = [
-        ("Load", e["load"]), ("  served", e["load_served"]), ("  unserved", e["unserved"]),
+        ("Load", e["load"]), ("  served", e["load_served"]),
+        ("  unserved backed-up (a failure)", e["unserved_backed_up"]),
+        ("  grid-only shed in outages (by design)", e["shed_grid_only"]),
         ("PV potential (module DC)", e["pv_potential"]), ("  DC-coupled arrays", e["pv_potential_dc"]),
         ("  AC-coupled arrays", e["pv_potential_ac"]), ("Harvested", e["harvested"]),
         ("Curtailed", e["curtailed"]), ("  DC-coupled", e["curtailed_dc"]), ("  AC-coupled", e["curtailed_ac"]),
@@ -59,7 +61,7 @@ def format_year_table(result: dict) -> str:
     lines += ["", f"Self-consumption {pct(r['self_consumption'])}   Self-sufficiency {pct(r['self_sufficiency'])}"
               f"   PV utilisation {pct(r['pv_utilisation'])}",
               f"Hours: export {h['export']:.0f} h (uncontrolled {h['export_uncontrolled']:.0f} h), "
-              f"outage {h['outage']:.0f} h, unserved {h['unserved']:.0f} h",
+              f"outage {h['outage']:.0f} h, backed-up loads unserved {h['unserved_backed_up']:.0f} h",
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
               f"Weather: GHI {result['weather']['ghi_kwh_m2']:.0f} kWh/m² ({result['weather']['source']})"]
     return "\n".join(lines)
@@ -78,6 +80,13 @@ def _cmd_simulate(args) -> int:
     progress = stderr_progress("simulate") if sys.stderr.isatty() else None
     sim = simulate(sc, progress=progress)
     out = sim.results.to_dict()
+    from core.analyses.outage_draws import outage_draws
+    from core.analyses.running_costs import charge_window_value, money, outage_figures
+
+    draws = outage_draws(sc, sim.site, sim.sources, progress=stderr_progress("outage years") if progress else None)
+    out["outages"] = outage_figures(sim, draws)
+    out["money"] = money(sim)
+    out["charge_window"] = charge_window_value(sim)
     if args.steps_csv:
         from core.present.report import write_steps_csv
 

@@ -282,6 +282,13 @@ def charge_window(sc: Scenario, site: SiteData) -> np.ndarray:
     return tariff.in_hours(hour, *w.hours).astype(float)
 
 
+def import_prices(sc: Scenario, site: SiteData) -> np.ndarray:
+    """The import price per kWh of every step under the scenario's tariff (time-of-use periods by local clock)."""
+    t = sc.tariff
+    return tariff.import_prices(tariff.local_clock(site.index, site.timezone), base_price=t.import_price_per_kwh,
+                                periods=t.periods, holidays_country=t.holidays)
+
+
 def dispatch_inputs(sc: Scenario, site: SiteData, sources: SourcePower) -> dispatch.DispatchInputs:
     return dispatch.DispatchInputs(
         load_backed_w=site.load_backed_w, load_grid_only_w=site.load_grid_only_w, dc_out_w=sources.dc.out_w,

@@ -17,7 +17,15 @@ import pandas as pd
 from core.analyses.options import Layout, applicable_options, layout_of, with_option
 from core.model import dispatch
 from core.scenario import Scenario
-from core.simulate import OrientationCache, SiteData, SourcePower, dispatch_params, prepare_site, source_power
+from core.simulate import (
+    OrientationCache,
+    SiteData,
+    SourcePower,
+    charge_window,
+    dispatch_params,
+    prepare_site,
+    source_power,
+)
 
 #: Columns of the sweep table, in order. Energies in kWh a year; shares 0…1 of the new panels' module energy.
 COLUMNS = (
@@ -101,6 +109,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
     site = site or prepare_site(sc)
     cache = cache if cache is not None else OrientationCache()
     params = dispatch_params(sc, site.dt_h)
+    window = charge_window(sc, site)
     n = len(site.index)
     per_variant = (len(dispatch.FLOWS) + len(_SOURCE_KEYS)) * n * 8
     batch = max(1, int(batch_bytes // per_variant))
@@ -118,7 +127,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
                 buffers[key][i] = row
         flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_only_w, site.grid_up,
                                        {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
-                                       out=buffers["flows"][:k])
+                                       out=buffers["flows"][:k], charge_window=window)
         return [_figures(flows[i], s, site.dt_h) for i, (_, _, s) in enumerate(variants)]
 
     plan = [(o, Layout(c, t, a)) for o in options for t in tilts for a in azimuths for c in counts]

@@ -20,8 +20,14 @@ ENERGY_KEYS = (
     "curtailed", "curtailed_dc", "curtailed_ac", "clipped", "exported", "exported_uncontrolled", "grid_import",
     "grid_import_standing", "battery_charge", "battery_discharge", "losses", "conversion_losses",
     "battery_losses", "stored_change", "balance_error", "pv_direct", "pv_to_battery", "ac_direct",
-    "unserved_backed_up",
+    "unserved_backed_up", "shed_grid_only",
+    # Where AC-coupled output was held back (parts of curtailed_ac): an export limiter, frequency-watt while
+    # off-grid, the SOC relay open, the microinverters' reconnect wait.
+    "curtailed_limiter", "curtailed_frequency_watt", "curtailed_relay", "reconnect_wait",
 )
+#: Engine flows behind the held-back figures; a table without them (an older steps file) counts zero.
+_HELD_BACK = {"curtailed_limiter": "curtailed_limiter_w", "curtailed_frequency_watt": "curtailed_fw_w",
+              "curtailed_relay": "curtailed_relay_w", "reconnect_wait": "curtailed_wait_w"}
 
 _CONVERSION_LOSSES = ("controller_loss_w", "ac_backed_conversion_loss_w", "ac_grid_conversion_loss_w", "inverter_loss_w",
                       "idle_w", "charger_loss_w")
@@ -37,7 +43,10 @@ INPUT_COLUMNS = (
 
 def _arrays(steps: pd.DataFrame) -> dict[str, np.ndarray]:
     """The columns the figures need, as arrays."""
-    return {name: steps[name].to_numpy(dtype=bool if name == "grid_up" else float) for name in INPUT_COLUMNS}
+    out = {name: steps[name].to_numpy(dtype=bool if name == "grid_up" else float) for name in INPUT_COLUMNS}
+    out.update({name: steps[name].to_numpy(dtype=float) for name in (*_HELD_BACK.values(), "islanded")
+                if name in steps})
+    return out
 
 
 def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> dict[str, np.ndarray]:
@@ -53,6 +62,10 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     # Grid-only loads are dropped in every outage by design; the backed-up part is what ride-through is about.
     d["unserved_backed_up"] = np.maximum(c["unserved_w"] - c["load_grid_only_w"] * ~np.asarray(c["grid_up"], dtype=bool),
                                          0.0)
+    d["shed_grid_only"] = d["unserved"] - d["unserved_backed_up"]  # grid-only load dropped in outages by design
+    zero = np.zeros(len(d["unserved"]))
+    for key, column in _HELD_BACK.items():
+        d[key] = c[column] if column in c else zero
     d["pv_potential_dc"] = c["pv_potential_dc_w"]
     d["pv_potential_ac"] = c["pv_potential_ac_w"]
     d["pv_potential"] = d["pv_potential_dc"] + d["pv_potential_ac"]
@@ -176,6 +189,7 @@ def summarise_columns(c: Mapping[str, np.ndarray], *, months: MonthGroups, dt_h:
         "unserved": float(np.count_nonzero(d["unserved"] > 1e-6) * dt_h),
         "unserved_backed_up": float(np.count_nonzero(d["unserved_backed_up"] > 1e-6) * dt_h),
         "curtailment": float(np.count_nonzero(d["curtailed"] > 1e-6) * dt_h),
+        "islanded": float(np.count_nonzero(c["islanded"] > 0.5) * dt_h) if "islanded" in c else 0.0,
     }
     n = len(up)
     soc_pct = c["soc_wh"] / usable_wh * 100.0 if usable_wh > 0 else np.zeros(n)

@@ -32,7 +32,10 @@ def weekend_or_holiday(clock: pd.DatetimeIndex, country: str | None) -> np.ndarr
         import holidays
 
         days = holidays.country_holidays(country, years=sorted(set(clock.year)))
-        off = off | np.fromiter((d in days for d in clock.date), dtype=bool, count=len(clock))
+        dates = clock.normalize().tz_localize(None)
+        unique = dates.unique()  # a year has 365 dates however fine its steps
+        free = unique[[d.date() in days for d in unique]]
+        off = off | np.asarray(dates.isin(free))
     return off
 
 

@@ -102,6 +102,9 @@ class InverterCharger:
     charger_rating_w: float | None = field(default=None, metadata=_num(0, 1e6))  # AC input; None = rating_w
     charger_efficiency: float = field(default=0.92, metadata=_num(0.3, 1, lo_open=True))
     idle_w: float = field(default=25.0, metadata=_num(0, 1000))
+    # Time the backed-up side is without voltage when the grid fails and the inverter-charger takes over
+    # (from memory: transfer-relay inverter-chargers state under 20 ms; online double conversion 0 ms).
+    transfer_ms: float = field(default=20.0, metadata=_num(0, 10000))
     # Highest frequency the inverter-charger shifts its islanded output to, to curtail AC-coupled PV.
     islanded_max_hz: float | None = field(default=None, metadata=_num(45, 66))
 
