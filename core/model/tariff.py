@@ -27,7 +27,7 @@ def in_hours(hour: np.ndarray, start: int, end: int) -> np.ndarray:
 
 def weekend_or_holiday(clock: pd.DatetimeIndex, country: str | None) -> np.ndarray:
     """Saturdays, Sundays and (with a country code) that country's public holidays."""
-    off = np.asarray(clock.dayofweek >= 5)
+    off = np.asarray(clock.day_of_week >= 5)
     if country:
         import holidays
 
