@@ -39,6 +39,7 @@ from explorer.views import (  # noqa: E402
     headline,
     outages,
     report,
+    running_costs,
     start,
 )
 from explorer.views import compare as compare_view  # noqa: E402
@@ -157,6 +158,8 @@ def main() -> None:
     base_load = None
     with tabs["Energy by month"], section("Energy by month"):
         energy.render(sim, baseline)
+    with tabs["Energy by month"], section("What the system's own draws cost"):
+        running_costs.render(sim)
     with tabs["Typical day"], section("Typical day"):
         base_load = caching.daytime_base_load(option_sc, c.option)
         day.render(sim, base_load)

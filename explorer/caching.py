@@ -105,3 +105,31 @@ def comparison(sc: Scenario):
     :func:`core.analyses.compare.compare` on the cached site and orientations."""
     return _comparison(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
                                                 "microinverters", "arrays", "grid", "expansion", "tariff")), sc)
+
+
+@st.cache_resource(max_entries=24, show_spinner=False)
+def _outage_draws(key: str, _sim: SimulationResult):
+    from core.analyses.outage_draws import outage_draws
+
+    return outage_draws(_sim.scenario, _sim.site, _sim.sources)
+
+
+def outage_draws(sim: SimulationResult):
+    """The scenario's random outage years through the engine (None without random outages)."""
+    sc = sim.scenario
+    return _outage_draws(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                                  "microinverters", "arrays", "grid")), sim)
+
+
+@st.cache_data(max_entries=48, show_spinner=False)
+def _money(key: str, _sim: SimulationResult) -> dict:
+    from core.analyses.running_costs import money
+
+    return money(_sim)
+
+
+def money(sim: SimulationResult) -> dict:
+    """The year's bill and what the standing and idle draws cost (see core.analyses.running_costs)."""
+    sc = sim.scenario
+    return _money(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                           "microinverters", "arrays", "grid", "tariff")), sim)

@@ -59,3 +59,15 @@ def test_p50_over_200_draws_is_near_p50_over_2000(maple):
         a, b = few[key]["p50"], many[key]["p50"]
         assert abs(a - b) <= max(0.25 * b, 0.5), key
     assert many["draws"] == 2000 and many["unserved_backed_up_kwh"]["worst"] >= many["unserved_backed_up_kwh"]["p90"]
+
+
+def test_the_distribution_chart_is_a_valid_specification(maple):
+    from explorer import charts
+
+    sc, site, _, src = maple
+    d = outage_draws(sc, site, src, draws=50)
+    s = d.to_dict()["unserved_backed_up_kwh"]
+    spec = charts.outage_draws_chart(d.unserved_backed_up_kwh, s["p50"], s["p90"]).to_dict(validate=True)
+    rows = next(iter(spec["datasets"].values()))
+    assert sum(r["years"] for r in rows) == 50  # every draw falls in one bar
+    assert "unserved" in spec["title"]["text"]
