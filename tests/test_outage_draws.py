@@ -71,3 +71,29 @@ def test_the_distribution_chart_is_a_valid_specification(maple):
     rows = next(iter(spec["datasets"].values()))
     assert sum(r["years"] for r in rows) == 50  # every draw falls in one bar
     assert "unserved" in spec["title"]["text"]
+
+
+def test_momentary_interruptions_worked_by_hand():
+    # Two a month = 24 a year. Grid-side microinverters averaging 150 W over the year wait IEEE 1547-2018's
+    # default 300 s after each: 24 × 150 W × 300 s = 0.3 kWh. Grid-only loads averaging 500 W come back after
+    # 120 s: 24 × 500 W × 120 s = 0.4 kWh. A 20 ms transfer lies on the ITI (CBEMA) curve's 20 ms at zero voltage:
+    # computers ride through; 30 ms does not.
+    from core.model.conversion import RECONNECT_DELAY_S
+
+    m = outages.momentary_effects(per_year=24.0, transfer_ms=20.0, mean_grid_side_pv_w=150.0,
+                                  mean_grid_only_load_w=500.0, reconnect_s=RECONNECT_DELAY_S["ieee1547_2018"],
+                                  restore_delay_s=120.0)
+    assert m["grid_side_pv_lost_kwh"] == pytest.approx(0.3)
+    assert m["grid_only_shed_kwh"] == pytest.approx(0.4)
+    assert m["backed_up_loads_ride_through"] and m["backed_up_resets_per_year"] == 0.0
+    slow = outages.momentary_effects(per_year=24.0, transfer_ms=30.0, mean_grid_side_pv_w=0.0,
+                                     mean_grid_only_load_w=0.0, reconnect_s=60.0, restore_delay_s=0.0)
+    assert not slow["backed_up_loads_ride_through"] and slow["backed_up_resets_per_year"] == 24.0
+
+
+def test_restore_delay_after_an_outage_worked_by_hand():
+    # Hourly steps, grid down in steps 1–2, back in step 3; grid-only load 1 000 W; restore delay 5 400 s = 1.5 h:
+    # all of step 3 and half of step 4 stay off: 1 500 Wh.
+    up = np.array([True, False, False, True, True, True])
+    wh = outages.restore_delay_shed_wh(up, np.full(6, 1000.0), step_s=3600, restore_delay_s=5400.0)
+    assert wh == pytest.approx(1500.0)

@@ -29,6 +29,9 @@ ENERGY_LABELS = {
     "conversion_losses": "  conversion", "battery_losses": "  battery", "stored_change": "Stored energy change",
     "balance_error": "Balance error", "pv_direct": "PV used directly", "pv_to_battery": "PV into the battery",
     "ac_direct": "AC-coupled PV used directly",
+    "unserved_backed_up": "  backed-up load unserved (a failure)", "shed_grid_only": "  grid-only load shed by design",
+    "curtailed_limiter": "  AC: by the export limiter", "curtailed_frequency_watt": "  AC: by frequency-watt",
+    "curtailed_relay": "  AC: relay open", "reconnect_wait": "  AC: waiting to reconnect",
 }
 
 _W, _H = 760, 300
@@ -316,8 +319,8 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
     if events.empty:
         parts.append("<p>No grid outages in this setting.</p>")
     else:
-        parts.append(_table(["Start (local standard time)", "Length (h)", "Unserved (kWh)", "Unserved (h)",
-                             "Lowest SOC (%)"],
+        parts.append(_table(["Start (local standard time)", "Length (h)", "Backed-up unserved (kWh)",
+                             "Backed-up unserved (h)", "Lowest SOC (%)"],
                             [[r.start.strftime("%d %b %H:%M"), f"{r.hours:.1f}", f"{r.unserved_kwh:.1f}",
                               f"{r.unserved_hours:.1f}", f"{r.lowest_soc_pct:.1f}"] for r in events.itertuples()]))
 
