@@ -264,7 +264,9 @@ def dispatch_params(sc: Scenario, dt_h: float, **changes) -> dispatch.DispatchPa
         charger_efficiency=ic.charger_efficiency, idle_w=ic.idle_w, standing_draw_w=g.standing_draw_w,
         metering_site=g.metering == "site", export_allowed=g.export_allowed, export_limit_w=g.export_limit_w,
         limiter=mode == "limiter", recharge_reserve_from_grid=g.recharge_reserve_from_grid,
-        taper_start_wh=usable * b.taper_start_pct / 100.0 if b and b.taper_start_pct < 100.0 else float("inf"),
+        taper_start_wh=usable * b.taper_start_pct / 100.0 if b and b.taper_start_pct < 100.0 and b.model == "taper"
+        else float("inf"),
+        kibam_c=b.kibam_c if b and b.model == "kibam" else 0.0, kibam_k_per_h=b.kibam_k_per_h if b else 1.0,
         taper_end_fraction=b.taper_end_fraction if b else 0.0,
         discharge_taper_wh=usable * b.discharge_taper_pct / 100.0 if b else 0.0,
         ac_control=dispatch.AC_CONTROL_CODES[mode], relay_open_wh=usable * g.relay_open_pct / 100.0,

@@ -47,7 +47,8 @@ def plant(draw):
         taper_end_fraction=draw(st.floats(0.0, 1.0)), discharge_taper_wh=usable * draw(st.floats(0.0, 0.3)),
         ac_control=draw(st.integers(0, 3)), relay_open_wh=usable * draw(st.floats(0.5, 1.0)),
         relay_close_wh=usable * draw(st.floats(0.0, 0.5)), reconnect_s=draw(st.sampled_from([0.0, 60.0, 300.0, 7200.0])),
-        charge_window_target_wh=usable * draw(st.floats(0.0, 1.0)))
+        charge_window_target_wh=usable * draw(st.floats(0.0, 1.0)),
+        kibam_c=draw(st.sampled_from([0.0, 0.0, 0.3, 0.9])), kibam_k_per_h=draw(st.floats(0.05, 5.0)))
     scale = draw(st.floats(0.0, 3.0))
     dc_mod = rng.uniform(0, 4000, STEPS) * scale * (rng.random(STEPS) < 0.6)
     ac_mod = rng.uniform(0, 450, STEPS) * scale

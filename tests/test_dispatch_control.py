@@ -144,3 +144,45 @@ def test_charge_window_lifts_the_soc_from_the_grid():
     assert f["grid_import_w"][0] == approx(1000.0 / 0.81)
     assert f["soc_wh"][0] == approx(6000.0)
     assert f["grid_import_w"][1] == approx(0.0)
+
+
+def test_kinetic_battery_model_limits_the_discharge_by_its_available_well():
+    # Manwell & McGowan (1993), worked by hand: 5 000 Wh stored, c = 0.5, k = 1 /h, Δt = 1 h, the wells in balance
+    # (q1 = 2 500 Wh). x = e^−1 = 0.367879, d = 1 − x + c(kΔt − 1 + x) = 0.632121 + 0.183940 = 0.816061; the
+    # largest discharge is (k q1 x + q k c (1 − x)) / d = (919.70 + 1 580.30) / 0.816061 = 3 063.5 W (stored
+    # side), 3 063.5 × 0.9 = 2 757.2 W on the bus. An outage with a 5 000 W load takes all of it.
+    from core.model.dispatch import _kibam_limits, _kibam_step
+
+    dis, _ = _kibam_limits(5000.0, 2500.0, 1.0, 0.5, 1.0, 10_000.0)
+    assert dis == approx(3063.5, abs=0.1)
+    # At that rate the available well is empty at the end of the step (the model's defining property).
+    assert _kibam_step(5000.0, 2500.0, dis, 1.0, 0.5, 1.0) == approx(0.0, abs=1e-9)
+    p = params(kibam_c=0.5, kibam_k_per_h=1.0, floor_wh=0.0, charge_max_w=20_000.0, discharge_max_w=20_000.0,
+               inverter_ac_w=np.array([0.0, 20_000.0]), inverter_dc_w=np.array([0.0, 20_000.0 / 0.9]))
+    f = run(lb=5000.0, up=False, p=p)
+    assert f["battery_discharge_w"][0] == approx(dis * 0.9, abs=0.1)
+    assert f["unserved_backed_up_w"][0] == approx(5000.0 - dis * 0.81, abs=0.1)
+    # The same battery without the model is limited only by its store: 5 000 Wh × 0.9 = 4 500 W on the bus.
+    g = run(lb=5000.0, up=False, p=params(floor_wh=0.0, charge_max_w=20_000.0, discharge_max_w=20_000.0,
+                                          inverter_ac_w=np.array([0.0, 20_000.0]),
+                                          inverter_dc_w=np.array([0.0, 20_000.0 / 0.9])))
+    assert g["battery_discharge_w"][0] == approx(4500.0)
+
+
+@pytest.mark.parametrize("name", ["none", "limiter", "islanded", "relay"])
+def test_compiled_equals_plain_python_with_every_new_rule(name):
+    # Taper, discharge limit, kinetic model, the mode, reconnect delays, a charge window: compiled and plain agree.
+    rng = np.random.default_rng(3)
+    n = 400
+    p = mode(name, dt_h=0.25, taper_start_wh=8000.0, discharge_taper_wh=800.0, relay_open_wh=9000.0,
+                           relay_close_wh=7000.0, reconnect_s=300.0, charge_window_target_wh=6000.0, kibam_c=0.6,
+                           kibam_k_per_h=2.0, idle_w=20.0)
+    z = np.zeros(n)
+    inputs = DispatchInputs(load_backed_w=rng.uniform(0, 3000, n), load_grid_only_w=rng.uniform(0, 800, n),
+                            dc_out_w=rng.uniform(0, 2500, n), dc_loss_w=z + 10.0,
+                            ac_backed_out_w=rng.uniform(0, 2000, n), ac_backed_loss_w=z + 5.0,
+                            ac_grid_out_w=rng.uniform(0, 900, n), ac_grid_loss_w=z + 4.0,
+                            grid_up=rng.random(n) > 0.15, charge_window=(rng.random(n) < 0.2).astype(float))
+    fast = dispatch(inputs, p, compiled=True).flows
+    slow = dispatch(inputs, p, compiled=False).flows
+    np.testing.assert_allclose(fast, slow, rtol=0, atol=1e-9)

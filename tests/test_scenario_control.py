@@ -78,3 +78,10 @@ def test_taper_defaults_and_off(tmp_path):
     assert p.taper_start_wh == pytest.approx(sc.battery.usable_kwh * 900.0)  # 90 % by default
     off = sc.replace(battery=sc.battery.__class__(**{**vars(sc.battery), "taper_start_pct": 100.0}))
     assert dispatch_params(off, 1.0).taper_start_wh == float("inf")
+
+
+def test_the_kinetic_model_replaces_the_taper(tmp_path):
+    text = SAMPLE.read_text(encoding="utf-8").replace("[battery]\n", '[battery]\nmodel = "kibam"\nkibam_c = 0.5\n', 1)
+    p = dispatch_params(read(text), 1.0)
+    assert p.kibam_c == 0.5 and p.taper_start_wh == float("inf")
+    assert dispatch_params(load_scenario(SAMPLE), 1.0).kibam_c == 0.0  # the taper by default

@@ -104,6 +104,10 @@ class DispatchParams:
     relay_close_wh: float = 0.0  # … and closes again at or below this one
     reconnect_s: float = 0.0  # microinverters wait this long after every reconnection before producing
     charge_window_target_wh: float = 0.0  # the grid lifts the battery to this inside the charge window
+    # Kinetic battery model (Manwell & McGowan 1993): share of the charge in the available well (0: not used)
+    # and the rate constant between the wells (per hour).
+    kibam_c: float = 0.0
+    kibam_k_per_h: float = 1.0
 
     def packed(self) -> np.ndarray:
         """The scalar parameters as one float array in the order of :data:`Param` (flags as 0.0 / 1.0)."""
@@ -221,6 +225,28 @@ def _charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction):
     return max(0.0, (e_end - e) / (eta * dt))
 
 
+def _kibam_limits(e, q1, dt, c, k, usable):
+    """Largest mean discharge and charge power (stored side, W) over a step of the kinetic battery model.
+
+    Manwell & McGowan, "Lead acid battery storage model for hybrid energy systems", Solar Energy 50 (1993)
+    399–405: the charge ``e`` sits in an available well ``q1`` and a bound well ``e − q1`` that exchange charge
+    at rate ``k``; with ``x = exp(−kΔt)`` and ``d = 1 − x + c(kΔt − 1 + x)`` the largest discharge that leaves
+    the available well empty at the step's end is ``(k q1 x + e k c (1 − x)) / d`` and the largest charge
+    that fills it is ``(k c Q − k q1 x − e k c (1 − x)) / d``.
+    """
+    x = math.exp(-k * dt)
+    d = 1.0 - x + c * (k * dt - 1.0 + x)
+    discharge = (k * q1 * x + e * k * c * (1.0 - x)) / d
+    charge = (k * c * usable - k * q1 * x - e * k * c * (1.0 - x)) / d
+    return max(0.0, discharge), max(0.0, charge)
+
+
+def _kibam_step(e, q1, p, dt, c, k):
+    """The available well after a step of mean stored-side power ``p`` (W, discharge positive) from ``e``, ``q1``."""
+    x = math.exp(-k * dt)
+    return q1 * x + (e * k * c - p) * (1.0 - x) / k - p * c * (k * dt - 1.0 + x) / k
+
+
 def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
     """One variant's year: ``loads`` rows as :data:`Load`, ``src`` rows as :data:`Source`, ``par`` as
     :data:`Param`; writes every row of ``out`` (:data:`Flow`) for every step."""
@@ -254,6 +280,10 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
     lg_all = loads[Load.load_grid_only_w]
     window_all = loads[Load.charge_window]
     e = par[Param.initial_wh]
+    kib_c = par[Param.kibam_c]
+    kib_k = par[Param.kibam_k_per_h]
+    kibam = 0.0 < kib_c < 1.0
+    q1 = kib_c * e  # the wells start in balance
     relay_closed = True
     wait_ab = 0.0  # seconds the backed-up microinverters still wait before producing
     wait_ag = 0.0  # the same for the grid-side ones
@@ -307,6 +337,11 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
             curt_wait += lost * r_ag
             wait_ag = max(0.0, wait_ag - step_s)
         dis_lim = dis_max if e >= dis_taper_wh else dis_max * e / dis_taper_wh
+        kib_ch = math.inf  # bus side
+        if kibam:
+            kib_dis, kib_ch_stored = _kibam_limits(e, q1, dt, kib_c, kib_k, usable)
+            dis_lim = min(dis_lim, kib_dis * eta)
+            kib_ch = kib_ch_stored / eta
         # ac_control = "islanded": the backed-up side stays off-grid while DC PV and the battery above the
         # reserve carry the idle draw and the backed-up loads; otherwise it connects for the step.
         island = False
@@ -319,7 +354,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         low = reserve if grid else floor  # islanded with the grid up, the reserve is still kept
         dis_room = max(0.0, min(dis_lim, (e - low) * eta / dt))
         ch_room = max(0.0, min(_charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction),
-                               (usable - e) / (eta * dt)))
+                               (usable - e) / (eta * dt), kib_ch))
         chg_cap = chg_rating
         bat_in = 0.0
         bat_out = 0.0
@@ -356,7 +391,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
             # energy drawn for the idle load frees the same room for charging later in the step
             e_idle = e - from_b / eta * dt
             ch_room = max(0.0, min(_charge_limit(e_idle, dt, eta, ch_max, usable, taper_wh, end_fraction),
-                                   (usable - e_idle) / (eta * dt)))
+                                   (usable - e_idle) / (eta * dt), kib_ch + from_b / (eta * eta)))
             idle_used = idle
         else:
             dc_avail = dc
@@ -497,8 +532,12 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         out[Flow.grid_import_standing_w, t] = min(imp, standing)
 
         curt_dc = dc_avail  # DC PV that nothing could take: the controllers back off
+        e_start = e
         e = e + (bat_in * eta - bat_out / eta) * dt
         e = min(max(e, 0.0), usable)
+        if kibam:  # the available well moves with the net flow; both wells stay inside their room
+            q1 = _kibam_step(e_start, q1, bat_out / eta - bat_in * eta, dt, kib_c, kib_k)
+            q1 = min(max(q1, e - (1.0 - kib_c) * usable, 0.0), e, kib_c * usable)
         out[Flow.soc_wh, t] = e
         out[Flow.load_served_w, t] = served
         out[Flow.unserved_w, t] = unserved
@@ -548,6 +587,8 @@ try:  # compiled when numba is available; the plain functions stay reachable as 
     _interp = register_jitable(_interp)
     _serve = register_jitable(_serve)
     _charge_limit = register_jitable(_charge_limit)
+    _kibam_limits = register_jitable(_kibam_limits)
+    _kibam_step = register_jitable(_kibam_step)
     _compiled_kernel = numba.njit(cache=True, nogil=True)(_kernel)
     _prange = numba.prange
     _step_loop = _compiled_kernel

@@ -92,6 +92,12 @@ class Battery:
     # Below this SOC the discharge limit falls linearly to zero at empty (the cell voltage drops steeply near
     # empty; from memory, LFP holds its rated current down to a few percent). 0 turns it off.
     discharge_taper_pct: float = field(default=5.0, metadata=_num(0, 50))
+    # "taper" above, or the kinetic battery model of Manwell & McGowan (1993): two wells of charge, the
+    # available share kibam_c and the rate constant kibam_k_per_h between them (defaults from memory, of the
+    # order fitted to lead-acid batteries; fit them to the battery's discharge curves at two rates).
+    model: Literal["taper", "kibam"] = "taper"
+    kibam_c: float = field(default=0.4, metadata=_num(0.01, 0.99))
+    kibam_k_per_h: float = field(default=0.8, metadata=_num(0.001, 100, lo_open=True))
 
 
 @dataclass(frozen=True)
