@@ -151,12 +151,12 @@ def test_kinetic_battery_model_limits_the_discharge_by_its_available_well():
     # (q1 = 2 500 Wh). x = e^−1 = 0.367879, d = 1 − x + c(kΔt − 1 + x) = 0.632121 + 0.183940 = 0.816061; the
     # largest discharge is (k q1 x + q k c (1 − x)) / d = (919.70 + 1 580.30) / 0.816061 = 3 063.5 W (stored
     # side), 3 063.5 × 0.9 = 2 757.2 W on the bus. An outage with a 5 000 W load takes all of it.
-    from core.model.dispatch import _kibam_limits, _kibam_step
+    from core.model.battery import kibam_available_wh, kibam_limits_w
 
-    dis, _ = _kibam_limits(5000.0, 2500.0, 1.0, 0.5, 1.0, 10_000.0)
+    dis, _ = kibam_limits_w(5000.0, 2500.0, 1.0, 0.5, 1.0, 10_000.0)
     assert dis == approx(3063.5, abs=0.1)
     # At that rate the available well is empty at the end of the step (the model's defining property).
-    assert _kibam_step(5000.0, 2500.0, dis, 1.0, 0.5, 1.0) == approx(0.0, abs=1e-9)
+    assert kibam_available_wh(5000.0, 2500.0, dis, 1.0, 0.5, 1.0) == approx(0.0, abs=1e-9)
     p = params(kibam_c=0.5, kibam_k_per_h=1.0, floor_wh=0.0, charge_max_w=20_000.0, discharge_max_w=20_000.0,
                inverter_ac_w=np.array([0.0, 20_000.0]), inverter_dc_w=np.array([0.0, 20_000.0 / 0.9]))
     f = run(lb=5000.0, up=False, p=p)

@@ -20,7 +20,16 @@ grid side ``L_g − H_acg`` flows outside its view.
    lowers grid import; below zero it is export: allowed up to the limit, beyond that (or with zero
    export) a limiter curtails the microinverters (grid side first) and without one it is
    **uncontrolled export**.
-4. Below the reserve, with ``recharge_reserve_from_grid``, the charger lifts the SOC back to the reserve.
+4. Below the reserve, with ``recharge_reserve_from_grid``, the charger lifts the SOC back to the reserve;
+   inside the charge window (``charge_window`` series), to the window's target.
+
+*Holding AC output back* (``ac_control``, before the rules above): ``AC_RELAY`` opens the microinverter
+circuit at ``relay_open_wh`` and closes it at ``relay_close_wh``; after every closing, and for grid-side
+microinverters after every outage, the microinverters wait ``reconnect_s`` before producing.
+``AC_ISLANDED`` keeps the backed-up side off-grid while DC PV and the battery above the reserve carry the
+idle draw and the backed-up loads: that step follows the grid-down rules (frequency-watt curtailment, the
+reserve as the lower limit) while the grid side keeps its grid; otherwise it connects and follows the
+grid-up rules with no limiter. ``AC_LIMITER`` is the limiter of rule 3.
 
 *Grid down.* Grid-only loads are unserved and grid-side microinverters stop (anti-islanding). The
 idle draw is met by DC PV or the battery above the floor, else the inverter-charger is off for the
@@ -29,7 +38,9 @@ battery down to the floor; the rest is unserved. A surplus is absorbed by the ba
 curtailed by frequency-watt response (AC) or at the controllers (DC).
 
 *Battery.* Energy between 0 and the usable capacity; charge and discharge efficiencies are each the
-square root of the round-trip efficiency; power limits are current × nominal voltage.
+square root of the round-trip efficiency; power limits are current × nominal voltage, lowered by the
+charge taper and the discharge limit near empty, or by the kinetic battery model
+(:mod:`core.model.battery`).
 
 The step loop is a plain function over numpy arrays; when numba is installed it is compiled (and
 cached on disk), and ``dispatch(..., compiled=False)`` runs the same code as plain Python.
@@ -42,6 +53,8 @@ from dataclasses import dataclass, fields
 from enum import IntEnum
 
 import numpy as np
+
+from core.model.battery import charge_limit_w, kibam_available_wh, kibam_limits_w
 
 #: Names of the per-step flows, in the order of the engine's output rows (all W except ``soc_wh``).
 FLOWS = (
@@ -198,55 +211,6 @@ def _serve(want_ac, dc_avail, dis_room, inv_ac, inv_dc):
     return dc_need, want_ac, use_dc, use_b, True
 
 
-def _charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction):
-    """Mean bus-side power the battery accepts over a step that starts with ``e`` Wh stored.
-
-    Acceptance is ``ch_max`` up to ``taper_wh`` and falls linearly with the stored energy to
-    ``end_fraction × ch_max`` at ``usable`` (the constant-current then constant-voltage charge of a lithium
-    battery, its current tail drawn as a straight line in the SOC). Charging at the limit, the stored energy
-    follows ``dE/dt = η · P(E)``, integrated exactly over the step, so the taper does not depend on the step.
-    """
-    if ch_max <= 0.0 or dt <= 0.0:
-        return 0.0
-    if e < taper_wh:
-        t_cc = (taper_wh - e) / (eta * ch_max)  # hours at full power before the knee
-        if t_cc >= dt or taper_wh >= usable:
-            return ch_max
-        e_knee = taper_wh
-        t_left = dt - t_cc
-    else:
-        e_knee = e
-        t_left = dt
-    slope = ch_max * (1.0 - end_fraction) / max(usable - taper_wh, 1e-9)  # W per Wh above the knee
-    if slope <= 0.0:
-        return ch_max
-    e_star = taper_wh + ch_max / slope  # where acceptance would reach zero
-    e_end = e_star - (e_star - e_knee) * math.exp(-eta * slope * t_left)
-    return max(0.0, (e_end - e) / (eta * dt))
-
-
-def _kibam_limits(e, q1, dt, c, k, usable):
-    """Largest mean discharge and charge power (stored side, W) over a step of the kinetic battery model.
-
-    Manwell & McGowan, "Lead acid battery storage model for hybrid energy systems", Solar Energy 50 (1993)
-    399–405: the charge ``e`` sits in an available well ``q1`` and a bound well ``e − q1`` that exchange charge
-    at rate ``k``; with ``x = exp(−kΔt)`` and ``d = 1 − x + c(kΔt − 1 + x)`` the largest discharge that leaves
-    the available well empty at the step's end is ``(k q1 x + e k c (1 − x)) / d`` and the largest charge
-    that fills it is ``(k c Q − k q1 x − e k c (1 − x)) / d``.
-    """
-    x = math.exp(-k * dt)
-    d = 1.0 - x + c * (k * dt - 1.0 + x)
-    discharge = (k * q1 * x + e * k * c * (1.0 - x)) / d
-    charge = (k * c * usable - k * q1 * x - e * k * c * (1.0 - x)) / d
-    return max(0.0, discharge), max(0.0, charge)
-
-
-def _kibam_step(e, q1, p, dt, c, k):
-    """The available well after a step of mean stored-side power ``p`` (W, discharge positive) from ``e``, ``q1``."""
-    x = math.exp(-k * dt)
-    return q1 * x + (e * k * c - p) * (1.0 - x) / k - p * c * (k * dt - 1.0 + x) / k
-
-
 def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
     """One variant's year: ``loads`` rows as :data:`Load`, ``src`` rows as :data:`Source`, ``par`` as
     :data:`Param`; writes every row of ``out`` (:data:`Flow`) for every step."""
@@ -339,7 +303,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         dis_lim = dis_max if e >= dis_taper_wh else dis_max * e / dis_taper_wh
         kib_ch = math.inf  # bus side
         if kibam:
-            kib_dis, kib_ch_stored = _kibam_limits(e, q1, dt, kib_c, kib_k, usable)
+            kib_dis, kib_ch_stored = kibam_limits_w(e, q1, dt, kib_c, kib_k, usable)
             dis_lim = min(dis_lim, kib_dis * eta)
             kib_ch = kib_ch_stored / eta
         # ac_control = "islanded": the backed-up side stays off-grid while DC PV and the battery above the
@@ -353,7 +317,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         bus_grid = grid and not island  # the backed-up side is connected to the grid
         low = reserve if grid else floor  # islanded with the grid up, the reserve is still kept
         dis_room = max(0.0, min(dis_lim, (e - low) * eta / dt))
-        ch_room = max(0.0, min(_charge_limit(e, dt, eta, ch_max, usable, taper_wh, end_fraction),
+        ch_room = max(0.0, min(charge_limit_w(e, dt, eta, ch_max, usable, taper_wh, end_fraction),
                                (usable - e) / (eta * dt), kib_ch))
         chg_cap = chg_rating
         bat_in = 0.0
@@ -390,7 +354,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
             dis_room -= from_b
             # energy drawn for the idle load frees the same room for charging later in the step
             e_idle = e - from_b / eta * dt
-            ch_room = max(0.0, min(_charge_limit(e_idle, dt, eta, ch_max, usable, taper_wh, end_fraction),
+            ch_room = max(0.0, min(charge_limit_w(e_idle, dt, eta, ch_max, usable, taper_wh, end_fraction),
                                    (usable - e_idle) / (eta * dt), kib_ch + from_b / (eta * eta)))
             idle_used = idle
         else:
@@ -536,7 +500,7 @@ def _kernel(loads, src, up, par, inv_ac, inv_dc, out):
         e = e + (bat_in * eta - bat_out / eta) * dt
         e = min(max(e, 0.0), usable)
         if kibam:  # the available well moves with the net flow; both wells stay inside their room
-            q1 = _kibam_step(e_start, q1, bat_out / eta - bat_in * eta, dt, kib_c, kib_k)
+            q1 = kibam_available_wh(e_start, q1, bat_out / eta - bat_in * eta, dt, kib_c, kib_k)
             q1 = min(max(q1, e - (1.0 - kib_c) * usable, 0.0), e, kib_c * usable)
         out[Flow.soc_wh, t] = e
         out[Flow.load_served_w, t] = served
@@ -586,9 +550,9 @@ try:  # compiled when numba is available; the plain functions stay reachable as 
 
     _interp = register_jitable(_interp)
     _serve = register_jitable(_serve)
-    _charge_limit = register_jitable(_charge_limit)
-    _kibam_limits = register_jitable(_kibam_limits)
-    _kibam_step = register_jitable(_kibam_step)
+    charge_limit_w = register_jitable(charge_limit_w)
+    kibam_limits_w = register_jitable(kibam_limits_w)
+    kibam_available_wh = register_jitable(kibam_available_wh)
     _compiled_kernel = numba.njit(cache=True, nogil=True)(_kernel)
     _prange = numba.prange
     _step_loop = _compiled_kernel
