@@ -142,7 +142,8 @@ def prepare_site(sc: Scenario) -> SiteData:
         intervals += outages.read_outages_csv(sc.resolve(sc.grid.outages_path, "grid.outages_path"), tz)
     if sc.grid.random_outages is not None:
         r = sc.grid.random_outages
-        intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed)
+        intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed,
+                                            month_weights=r.month_weights)
     return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
                     longitude=sc.site.longitude, weather=weather, geometry=geometry,
                     load_backed_w=load_b, load_grid_only_w=load_g, grid_up=outages.grid_up_mask(index, intervals),

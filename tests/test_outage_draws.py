@@ -97,3 +97,17 @@ def test_restore_delay_after_an_outage_worked_by_hand():
     up = np.array([True, False, False, True, True, True])
     wh = outages.restore_delay_shed_wh(up, np.full(6, 1000.0), step_s=3600, restore_delay_s=5400.0)
     assert wh == pytest.approx(1500.0)
+
+
+def test_seasonal_outages_start_only_in_their_months_and_both_paths_agree():
+    import datetime as dt
+
+    index = nominal_index(3600, dt.UTC)
+    weights = [0] * 6 + [1, 2] + [0] * 4  # July and August only, August twice as likely per day
+    intervals = outages.random_outages(index, per_year=300.0, mean_hours=1.0, seed=4, month_weights=weights)
+    months = np.array([s.month for s, _ in intervals])
+    assert set(months) <= {7, 8}
+    # 31-day months: August's share ≈ 2/3 (binomial, about 300 draws: well within ± 0.1)
+    assert abs(np.mean(months == 8) - 2 / 3) < 0.1
+    fast = outages.random_outage_mask(len(index), 3600, per_year=300.0, mean_hours=1.0, seed=4, month_weights=weights)
+    np.testing.assert_array_equal(fast, outages.grid_up_mask(index, intervals))

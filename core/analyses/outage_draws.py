@@ -34,7 +34,8 @@ def grid_masks(sc: Scenario, site: SiteData, first: int, count: int) -> np.ndarr
     fixed = outages.grid_up_mask(site.index, outages.read_outages_csv(
         sc.resolve(sc.grid.outages_path, "grid.outages_path"), site.index.tz)) if sc.grid.outages_path else True
     return np.stack([fixed & outages.random_outage_mask(len(site.index), site.step_s, per_year=r.per_year,
-                                                        mean_hours=r.mean_hours, seed=draw_seed(r.seed, i))
+                                                        mean_hours=r.mean_hours, seed=draw_seed(r.seed, i),
+                                                        month_weights=r.month_weights)
                      for i in range(first, first + count)])
 
 

@@ -74,23 +74,41 @@ def _nominal(ts: pd.Timestamp, tz) -> pd.Timestamp:
     return ts.replace(year=NOMINAL_YEAR)
 
 
+#: Days before each month of the nominal (non-leap) year, and the year's length.
+_MONTH_START_DAY = np.array([0, 31, 59, 90, 120, 151, 181, 212, 243, 273, 304, 334, 365])
+
+
+def _draw(rng, per_year: float, mean_hours: float, year_s: float, month_weights) -> tuple[np.ndarray, np.ndarray]:
+    """Sorted start times (s into the year) and durations (h): a Poisson count, starts uniform over the year
+    (or first a month, by ``month_weights`` × its length, then uniform inside it), exponential durations."""
+    count = rng.poisson(per_year)
+    if month_weights is None:
+        starts = np.sort(rng.uniform(0.0, year_s, count))
+    else:
+        edges = _MONTH_START_DAY / 365.0 * year_s
+        share = np.asarray(month_weights, dtype=float) * np.diff(edges)
+        month = rng.choice(12, size=count, p=share / share.sum())
+        starts = np.sort(edges[month] + rng.uniform(0.0, 1.0, count) * np.diff(edges)[month])
+    return starts, rng.exponential(mean_hours, count)
+
+
 def random_outages(index: pd.DatetimeIndex, *, per_year: float, mean_hours: float,
-                   seed: int) -> list[tuple[pd.Timestamp, pd.Timestamp]]:
+                   seed: int, month_weights=None) -> list[tuple[pd.Timestamp, pd.Timestamp]]:
     """Outages as a Poisson process: ``per_year`` expected starts, exponential durations of ``mean_hours``.
 
     Poisson arrivals with exponential durations are the usual reliability-analysis model of
     distribution outages (common practice; cf. IEEE 1366 for the indices SAIFI and CAIDI they imitate).
+    ``month_weights`` (twelve relative rates, January first) make outages seasonal, e.g. a storm season.
     """
     rng = np.random.default_rng(seed)
-    count = rng.poisson(per_year)
     year_s = (index[-1] - index[0]).total_seconds() + (index[1] - index[0]).total_seconds()
-    starts = np.sort(rng.uniform(0.0, year_s, count))
-    hours = rng.exponential(mean_hours, count)
+    starts, hours = _draw(rng, per_year, mean_hours, year_s, month_weights)
     return [(index[0] + pd.Timedelta(seconds=round(float(s))), index[0] + pd.Timedelta(seconds=round(float(s + h * 3600))))
             for s, h in zip(starts, hours, strict=True)]
 
 
-def random_outage_mask(steps: int, step_s: float, *, per_year: float, mean_hours: float, seed) -> np.ndarray:
+def random_outage_mask(steps: int, step_s: float, *, per_year: float, mean_hours: float, seed,
+                       month_weights=None) -> np.ndarray:
     """:func:`random_outages` as a grid-up mask of a regular year of ``steps`` steps, without timestamps.
 
     The same draws in the same order (so the same seed gives the same outages) and the same rule as
@@ -98,9 +116,7 @@ def random_outage_mask(steps: int, step_s: float, *, per_year: float, mean_hours
     path for many outage years.
     """
     rng = np.random.default_rng(seed)
-    count = rng.poisson(per_year)
-    starts = np.sort(rng.uniform(0.0, steps * step_s, count))
-    hours = rng.exponential(mean_hours, count)
+    starts, hours = _draw(rng, per_year, mean_hours, steps * step_s, month_weights)
     lo = np.minimum(np.ceil(np.round(starts) / step_s), steps).astype(np.int64)
     hi = np.minimum(np.ceil(np.round(starts + hours * 3600) / step_s), steps).astype(np.int64)
     edges = np.zeros(steps + 1, dtype=np.int64)

@@ -141,6 +141,10 @@ def grid_checks(sc: Scenario, r: Reader) -> None:
         _hours(r, "grid.charge_window.hours", g.charge_window.hours)
         if sc.battery is None:
             r.fail("grid.charge_window", "grid charging needs a [battery]")
+    ro = g.random_outages
+    if ro is not None and ro.month_weights is not None and sum(ro.month_weights) <= 0:
+        r.fail("grid.random_outages.month_weights", "every month has weight 0: no outage could start",
+               "give the months their relative outage rates, e.g. 1 for most and 3 for the storm season")
     t = sc.tariff
     for i, period in enumerate(t.periods):
         _hours(r, f"tariff.periods[{i}].hours", period.hours)

@@ -231,6 +231,8 @@ class RandomOutages:
     # Independent outage years run together for the statistics (P50, P90, worst); the seed's first draw is the
     # year the rest of the results show.
     draws: int = field(default=200, metadata=_num(1, 10000))
+    # Seasonality: twelve relative rates of outages starting in each month, January first; None = even.
+    month_weights: tuple[float, ...] | None = field(default=None, metadata=_num(0, 1000, count=MONTHS))
 
 
 #: How AC-coupled output is held back when the loads and battery cannot take it (``grid.ac_control``):
