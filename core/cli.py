@@ -83,7 +83,12 @@ def _cmd_simulate(args) -> int:
     from core.analyses.outage_draws import outage_draws
     from core.analyses.running_costs import charge_window_value, money, outage_figures
 
-    draws = outage_draws(sc, sim.site, sim.sources, progress=stderr_progress("outage years") if progress else None)
+    if args.draws is not None and args.draws < 0:
+        from core.errors import InputError
+
+        raise InputError(f"--draws {args.draws} is below 0", where="--draws", hint="give 0 or more outage years")
+    draws = None if args.draws == 0 else outage_draws(
+        sc, sim.site, sim.sources, draws=args.draws, progress=stderr_progress("outage years") if progress else None)
     out["outages"] = outage_figures(sim, draws)
     out["money"] = money(sim)
     out["charge_window"] = charge_window_value(sim)
@@ -307,6 +312,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("scenario", help="scenario file (TOML)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--steps-csv", metavar="PATH", help="write the step-by-step results as CSV")
+    p.add_argument("--draws", type=int, metavar="N",
+                   help="independent random-outage years for the outage statistics (default: the scenario's "
+                        "grid.random_outages.draws; 0 skips them)")
 
     p = add("inspect-load", "explain what the importer makes of a measured load file", _cmd_inspect_load)
     p.add_argument("file", help="load CSV")

@@ -41,3 +41,11 @@ def test_money_for_the_first_year(out):
     m = out["money"]
     assert {"import_cost", "fixed_charges", "export_credit", "standing_draw_cost", "idle_cost"} <= set(m)
     assert m["currency"] == "USD" and m["import_cost"] > 0 and 0 < m["standing_draw_cost"] < m["import_cost"]
+
+
+def test_draws_can_be_chosen_or_skipped(capsys):
+    assert main(["simulate", str(SAMPLE), "--json", "--draws", "0"]) == 0
+    o = json.loads(capsys.readouterr().out)["outages"]
+    assert o["draws"] == 1  # the one simulated year
+    assert main(["simulate", str(SAMPLE), "--json", "--draws", "-3"]) == 2
+    assert "--draws" in capsys.readouterr().err

@@ -43,11 +43,17 @@ def render(sim, baseline) -> None:
 
 
 def _draws(sim) -> None:
-    """The distribution over many independent outage years (random outages only)."""
-    with st.spinner("Simulating many outage years…"):
-        draws = caching.outage_draws(sim)
-    if draws is None:
+    """The distribution over many independent outage years (random outages only), on request: a few seconds
+    of work that a slider move should not wait for."""
+    r = sim.scenario.grid.random_outages
+    if r is None:
         return
+    if not st.toggle(f"Spread over {r.draws} simulated outage years", key="outage_draws",
+                     help="the same system through many independent years of random outages: how much backed-up "
+                          "load a typical year and a bad year leave unserved"):
+        return
+    with st.spinner(f"Simulating {r.draws} outage years…"):
+        draws = caching.outage_draws(sim)
     d = draws.to_dict()
     u, hrs, soc = d["unserved_backed_up_kwh"], d["unserved_backed_up_hours"], d["soc_at_start_pct"]
     c = st.columns(3)
