@@ -85,3 +85,17 @@ def test_the_kinetic_model_replaces_the_taper(tmp_path):
     p = dispatch_params(read(text), 1.0)
     assert p.kibam_c == 0.5 and p.taper_start_wh == float("inf")
     assert dispatch_params(load_scenario(SAMPLE), 1.0).kibam_c == 0.0  # the taper by default
+
+
+def test_new_keys_survive_save_and_reload(tmp_path):
+    from core.scenario import save_scenario
+
+    tail = ('\nfixed_per_month = 12.0\nholidays = "US"\n[[tariff.periods]]\nname = "evening peak"\n'
+            'price_per_kwh = 0.32\nhours = [16, 21]\ndays = "weekdays"\nmonths = [6, 7, 8, 9]\n')
+    extra = ('ac_control = "relay"\nrelay_open_pct = 97\ncharge_window = { hours = [1, 5], target_pct = 60 }\n'
+             'momentary_per_month = 1.5\nrestore_delay_s = 30')
+    sc = read(with_grid(tmp_path, extra, drop_alias=True, tail=tail))
+    target = tmp_path / "copy.toml"
+    save_scenario(sc, target)
+    again = load_scenario(target)
+    assert again.grid == sc.grid and again.tariff == sc.tariff and again.battery == sc.battery
