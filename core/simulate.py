@@ -264,7 +264,8 @@ def dispatch_params(sc: Scenario, dt_h: float, **changes) -> dispatch.DispatchPa
         charger_rating_w=ic.rating_w if ic.charger_rating_w is None else ic.charger_rating_w,
         charger_efficiency=ic.charger_efficiency, idle_w=ic.idle_w, standing_draw_w=g.standing_draw_w,
         metering_site=g.metering == "site", export_allowed=g.export_allowed, export_limit_w=g.export_limit_w,
-        limiter=mode == "limiter", recharge_reserve_from_grid=g.recharge_reserve_from_grid,
+        limiter=mode == "limiter" or (mode == "islanded" and g.islanded_limiter),
+        recharge_reserve_from_grid=g.recharge_reserve_from_grid,
         taper_start_wh=usable * b.taper_start_pct / 100.0 if b and b.taper_start_pct < 100.0 and b.model == "taper"
         else float("inf"),
         kibam_c=b.kibam_c if b and b.model == "kibam" else 0.0, kibam_k_per_h=b.kibam_k_per_h if b else 1.0,

@@ -186,3 +186,17 @@ def test_compiled_equals_plain_python_with_every_new_rule(name):
     fast = dispatch(inputs, p, compiled=True).flows
     slow = dispatch(inputs, p, compiled=False).flows
     np.testing.assert_allclose(fast, slow, rtol=0, atol=1e-9)
+
+
+def test_islanded_connects_to_cover_what_the_battery_cannot():
+    # 9 000 Wh stored (above the 2 000 Wh reserve), but a 4 000 W load exceeds the 3 000 W inverter: it connects,
+    # the grid-up rules apply (the standing draw held, the rest from the battery through the inverter).
+    f = run(lb=4000.0, p=mode("islanded", initial_wh=9000.0))
+    assert f["islanded"][0] == 0.0
+    assert f["unserved_backed_up_w"][0] == approx(0.0)
+    assert f["grid_import_w"][0] == approx(4000.0 - 3000.0)  # the inverter gives its rating, the grid the rest
+    # Connected, a limiter (islanded_limiter) curtails what would leak; without it the surplus leaks.
+    surplus = dict(initial_wh=2000.0, recharge_reserve_from_grid=False, charger_rating_w=0.0)
+    leak = run(lb=0.0, acb=1000.0, p=mode("islanded", **surplus))
+    held = run(lb=0.0, acb=1000.0, p=mode("islanded", limiter=True, **surplus))
+    assert leak["export_uncontrolled_w"][0] == approx(1000.0) and held["curtailed_limiter_w"][0] == approx(1000.0)

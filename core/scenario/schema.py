@@ -262,6 +262,7 @@ class Grid:
     ac_control: AcControl | None = None  # None = ac_export_control, else "none"
     relay_open_pct: float = field(default=95.0, metadata=_num(0, 100))  # "relay": opens at or above this SOC …
     relay_close_pct: float = field(default=85.0, metadata=_num(0, 100))  # … and closes at or below this one
+    islanded_limiter: bool = False  # "islanded": while connected, an export limiter curtails (else it leaks)
     recharge_reserve_from_grid: bool = True
     charge_window: ChargeWindow | None = None
     outages_path: str | None = None

@@ -29,7 +29,7 @@ microinverters after every outage, the microinverters wait ``reconnect_s`` befor
 ``AC_ISLANDED`` keeps the backed-up side off-grid while DC PV and the battery above the reserve carry the
 idle draw and the backed-up loads: that step follows the grid-down rules (frequency-watt curtailment, the
 reserve as the lower limit) while the grid side keeps its grid; otherwise it connects and follows the
-grid-up rules with no limiter. ``AC_LIMITER`` is the limiter of rule 3.
+grid-up rules, with the limiter of rule 3 when ``limiter`` is set. ``AC_LIMITER`` is that limiter.
 
 *Grid down.* Grid-only loads are unserved and grid-side microinverters stop (anti-islanding). The
 idle draw is met by DC PV or the battery above the floor, else the inverter-charger is off for the
