@@ -49,7 +49,7 @@ def format_year_table(result: dict) -> str:
         ("    by frequency-watt (off-grid)", e["curtailed_frequency_watt"]),
         ("    relay open", e["curtailed_relay"]), ("    waiting to reconnect", e["reconnect_wait"]),
         ("Clipped", e["clipped"]), ("Exported", e["exported"]), ("  uncontrolled", e["exported_uncontrolled"]),
-        ("Grid import", e["grid_import"]), ("  standing draw", e["grid_import_standing"]),
+        ("Grid import", e["grid_import"]), ("  while the standing draw was held", e["grid_import_standing"]),
         ("Battery charge", e["battery_charge"]), ("Battery discharge", e["battery_discharge"]),
         ("Losses", e["losses"]), ("Stored change", e["stored_change"]),
     ]
@@ -67,6 +67,19 @@ def format_year_table(result: dict) -> str:
               f"outage {h['outage']:.0f} h, backed-up loads unserved {h['unserved_backed_up']:.0f} h",
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
               f"Weather: GHI {result['weather']['ghi_kwh_m2']:.0f} kWh/m² ({result['weather']['source']})"]
+    m = result.get("money")
+    if m:
+        cur = m["currency"]
+        lines += [f"Money: import {m['import_cost']:,.0f} {cur}, fixed charges {m['fixed_charges']:,.0f} {cur}, "
+                  f"export credit {m['export_credit']:,.0f} {cur}",
+                  f"The standing draw causes {m['standing_draw_kwh']:,.0f} kWh of import a year "
+                  f"({m['standing_draw_cost']:,.0f} {cur}), the idle draw {m['idle_kwh']:,.0f} kWh "
+                  f"({m['idle_cost']:,.0f} {cur}): each is this year minus the same year without it"]
+    o = result.get("outages")
+    if o and o.get("draws", 0) > 1:
+        u = o["unserved_backed_up_kwh"]
+        lines.append(f"Outages over {o['draws']} random years: backed-up load unserved P50 {u['p50']:.1f} kWh, "
+                     f"P90 {u['p90']:.1f} kWh, worst {u['worst']:.1f} kWh")
     return "\n".join(lines)
 
 

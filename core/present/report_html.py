@@ -24,7 +24,7 @@ ENERGY_LABELS = {
     "pv_potential": "PV potential (module DC)", "pv_potential_dc": "  DC-coupled arrays",
     "pv_potential_ac": "  AC-coupled arrays", "harvested": "PV harvested", "curtailed": "Curtailed",
     "curtailed_dc": "  DC-coupled", "curtailed_ac": "  AC-coupled", "clipped": "Clipped", "exported": "Exported",
-    "exported_uncontrolled": "  uncontrolled", "grid_import": "Grid import", "grid_import_standing": "  standing draw",
+    "exported_uncontrolled": "  uncontrolled", "grid_import": "Grid import", "grid_import_standing": "  while the standing draw was held",
     "battery_charge": "Battery charge", "battery_discharge": "Battery discharge", "losses": "Losses",
     "conversion_losses": "  conversion", "battery_losses": "  battery", "stored_change": "Stored energy change",
     "balance_error": "Balance error", "pv_direct": "PV used directly", "pv_to_battery": "PV into the battery",
