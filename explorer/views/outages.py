@@ -39,7 +39,25 @@ def render(sim, baseline) -> None:
                f"battery may go down to its floor of {fmt_pct(floor)}. Existing system: "
                f"{fmt_kwh(eb['unserved_backed_up'])} of backed-up load unserved in "
                f"{fmt_hours(hb['unserved_backed_up'])}.")
+    _momentary(sim)
     _draws(sim)
+
+
+def _momentary(sim) -> None:
+    """Short interruptions, if the scenario expects any: what the transfer and the reconnect delays cost."""
+    g = sim.scenario.grid
+    if g.momentary_per_month <= 0:
+        return
+    from core.analyses.running_costs import outage_figures
+
+    m = outage_figures(sim)["momentary"]
+    rides = ("within" if m["backed_up_loads_ride_through"] else "beyond")
+    st.caption(f"{m['per_year']:.0f} short interruptions a year: the inverter-charger's {m['transfer_ms']:.0f} ms "
+               f"transfer is {rides} the {m['ride_through_limit_ms']:.0f} ms at zero voltage that the ITI (CBEMA) "
+               f"curve asks equipment to ride through"
+               + ("" if m["backed_up_loads_ride_through"] else ", so computers on the backed-up side may restart")
+               + f". Grid-side microinverters lose about {m['grid_side_pv_lost_kwh']:.1f} kWh a year waiting to "
+               f"reconnect; grid-only loads about {m['grid_only_shed_kwh']:.1f} kWh waiting for their restore delay.")
 
 
 def _draws(sim) -> None:
