@@ -211,7 +211,17 @@ def _cmd_compare(args) -> int:
                               "and/or a controller")
     layout = _layout_from_args(sc, args)
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
-    out = compare(sc, layout, progress=progress).to_dict()
+    comparison = compare(sc, layout, progress=progress)
+    out = comparison.to_dict()
+    if args.draws is None or args.draws > 0:
+        from core.analyses.outage_draws import options_spread
+
+        spread, sentence = options_spread(comparison, draws=args.draws,
+                                          progress=stderr_progress("outage years") if progress else None)
+        if spread:
+            out["outages"] = spread
+            out["verdict"]["reasons"].append(sentence)
+            out["verdict"]["text"] = f"{out['verdict']['text']} {sentence}"
     if args.json:
         print(json.dumps(out, indent=2))
     else:
@@ -346,6 +356,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--tilt", type=float, help="tilt of the new panels, degrees (default: the scenario's)")
     p.add_argument("--azimuth", type=float, help="azimuth of the new panels, degrees, 180 = south (default: the "
                    "scenario's)")
+    p.add_argument("--draws", type=int, metavar="N", help="random-outage years per option for the outage spread "
+                   "(default: the scenario's grid.random_outages.draws; 0 skips it)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = add("check", "design checks with cautions for the existing system and each expansion option", _cmd_check)

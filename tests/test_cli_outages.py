@@ -49,3 +49,13 @@ def test_draws_can_be_chosen_or_skipped(capsys):
     assert o["draws"] == 1  # the one simulated year
     assert main(["simulate", str(SAMPLE), "--json", "--draws", "-3"]) == 2
     assert "--draws" in capsys.readouterr().err
+
+
+def test_compare_sets_the_options_outage_spread_side_by_side(capsys):
+    assert main(["compare", str(SAMPLE), "--json", "--draws", "20"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert set(out["outages"]) == set(out["options"])
+    assert all(v["draws"] == 20 for v in out["outages"].values())
+    assert "random outage years" in out["verdict"]["reasons"][-1]
+    assert main(["compare", str(SAMPLE), "--json", "--draws", "0"]) == 0
+    assert "outages" not in json.loads(capsys.readouterr().out)

@@ -111,3 +111,28 @@ def outage_draws(sc: Scenario, site: SiteData, sources: SourcePower, *, draws: i
         shed_grid_only_kwh=np.concatenate(figures["shed"]), outage_hours=np.concatenate(figures["out"]),
         soc_at_start_pct=np.concatenate(figures["soc"]) if figures["soc"] else np.empty(0),
         usable_wh=params.usable_wh)
+
+
+def options_spread(comparison, *, draws: int | None = None,
+                   progress: Callable[[float, str], None] | None = None) -> tuple[dict, str | None]:
+    """The outage statistics of every option of a comparison, and one sentence that sets them side by side.
+
+    One simulated year can put every outage at night, where a backed-up and a grid-side AC option look the
+    same; over many years the difference the side makes shows. Returns ``({option: figures}, sentence)``;
+    empty without random outages.
+    """
+    out: dict[str, dict] = {}
+    options = list(comparison.options.items())
+    for i, (key, r) in enumerate(options):
+        sim = r.simulation
+        d = outage_draws(sim.scenario, sim.site, sim.sources, draws=draws)
+        if d is None:
+            return {}, None
+        out[key] = d.to_dict()
+        if progress:
+            progress((i + 1) / len(options), r.label)
+    n = next(iter(out.values()))["draws"]
+    parts = [f"{comparison.options[k].label} {v['unserved_backed_up_kwh']['p50']:.1f} / "
+             f"{v['unserved_backed_up_kwh']['p90']:.1f} kWh" for k, v in out.items()]
+    return out, (f"Over {n} random outage years, backed-up load unserved in a typical / one-in-ten year: "
+                 + "; ".join(parts) + ".")
