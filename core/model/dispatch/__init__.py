@@ -1,4 +1,4 @@
-"""The time-step energy-flow engine of a zero-export hybrid system (DESIGN.md §5).
+"""The time-step energy-flow engine of a zero-export hybrid system (the energy rules of docs/design.md).
 
 Powers are step means in W, energies in Wh, the step ``dt_h`` in hours. The engine takes the
 converters' outputs (controllers on the DC bus, microinverters on the backed-up and the grid side of the
