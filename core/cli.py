@@ -51,13 +51,18 @@ def format_year_table(result: dict) -> str:
     """A readable table of the year's figures (kWh without decimals, ratios as % with one decimal)."""
     e = result["energy_kwh"]
     rows = [
-        ("Load", e["load"]), ("  served", e["load_served"]), ("  unserved", e["unserved"]),
+        ("Load", e["load"]), ("  served", e["load_served"]),
+        ("  unserved backed-up (a failure)", e["unserved_backed_up"]),
+        ("  grid-only shed in outages (by design)", e["shed_grid_only"]),
         ("Loads supplied from PV", e["loads_from_pv"]),
         ("PV potential (module DC)", e["pv_potential"]), ("  DC-coupled arrays", e["pv_potential_dc"]),
         ("  AC-coupled arrays", e["pv_potential_ac"]), ("Harvested", e["harvested"]),
         ("Curtailed", e["curtailed"]), ("  DC-coupled", e["curtailed_dc"]), ("  AC-coupled", e["curtailed_ac"]),
+        ("    by the export limiter", e["curtailed_limiter"]),
+        ("    by frequency-watt (off-grid)", e["curtailed_frequency_watt"]),
+        ("    relay open", e["curtailed_relay"]), ("    waiting to reconnect", e["reconnect_wait"]),
         ("Clipped", e["clipped"]), ("Exported", e["exported"]), ("  uncontrolled", e["exported_uncontrolled"]),
-        ("Grid import", e["grid_import"]), ("  standing draw", e["grid_import_standing"]),
+        ("Grid import", e["grid_import"]), ("  while the standing draw was held", e["grid_import_standing"]),
         ("Battery charge", e["battery_charge"]), ("Battery discharge", e["battery_discharge"]),
         ("Losses", e["losses"]), ("Stored change", e["stored_change"]),
     ]
@@ -72,9 +77,22 @@ def format_year_table(result: dict) -> str:
     lines += ["", f"Self-consumption {pct(r['self_consumption'])}   Self-sufficiency {pct(r['self_sufficiency'])}"
               f"   PV utilisation {pct(r['pv_utilisation'])}",
               f"Hours: export {h['export']:.0f} h (uncontrolled {h['export_uncontrolled']:.0f} h), "
-              f"outage {h['outage']:.0f} h, unserved {h['unserved']:.0f} h",
+              f"outage {h['outage']:.0f} h, backed-up loads unserved {h['unserved_backed_up']:.0f} h",
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
               f"Weather: GHI {result['weather']['ghi_kwh_m2']:.0f} kWh/m² ({result['weather']['source']})"]
+    m = result.get("money")
+    if m:
+        cur = m["currency"]
+        lines += [f"Money: import {m['import_cost']:,.0f} {cur}, fixed charges {m['fixed_charges']:,.0f} {cur}, "
+                  f"export credit {m['export_credit']:,.0f} {cur}",
+                  f"The standing draw causes {m['standing_draw_kwh']:,.0f} kWh of import a year "
+                  f"({m['standing_draw_cost']:,.0f} {cur}), the idle draw {m['idle_kwh']:,.0f} kWh "
+                  f"({m['idle_cost']:,.0f} {cur}): each is this year minus the same year without it"]
+    o = result.get("outages")
+    if o and o.get("draws", 0) > 1:
+        u = o["unserved_backed_up_kwh"]
+        lines.append(f"Outages over {o['draws']} random years: backed-up load unserved P50 {u['p50']:.1f} kWh, "
+                     f"P90 {u['p90']:.1f} kWh, worst {u['worst']:.1f} kWh")
     return "\n".join(lines)
 
 
@@ -91,6 +109,18 @@ def _cmd_simulate(args) -> int:
     progress = stderr_progress("simulate") if sys.stderr.isatty() else None
     sim = simulate(sc, progress=progress)
     out = sim.results.to_dict()
+    from core.analyses.outage_draws import outage_draws
+    from core.analyses.running_costs import charge_window_value, money, outage_figures
+
+    if args.draws is not None and args.draws < 0:
+        from core.errors import InputError
+
+        raise InputError(f"--draws {args.draws} is below 0", where="--draws", hint="give 0 or more outage years")
+    draws = None if args.draws == 0 else outage_draws(
+        sc, sim.site, sim.sources, draws=args.draws, progress=stderr_progress("outage years") if progress else None)
+    out["outages"] = outage_figures(sim, draws)
+    out["money"] = money(sim)
+    out["charge_window"] = charge_window_value(sim)
     if args.steps_csv:
         from core.present.report import write_steps_csv
 
@@ -251,7 +281,17 @@ def _cmd_compare(args) -> int:
                              where="command line", hint=f"one of {', '.join(AC_CONTROL_MODES)}")
         sc = sc.replace(grid=dataclasses.replace(sc.grid, ac_export_control=args.export_control))
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
-    out = compare(sc, layout, progress=progress).to_dict()
+    comparison = compare(sc, layout, progress=progress)
+    out = comparison.to_dict()
+    if args.draws is None or args.draws > 0:
+        from core.analyses.outage_draws import options_spread
+
+        spread, sentence = options_spread(comparison, draws=args.draws,
+                                          progress=stderr_progress("outage years") if progress else None)
+        if spread:
+            out["outages"] = spread
+            out["verdict"]["reasons"].append(sentence)
+            out["verdict"]["text"] = f"{out['verdict']['text']} {sentence}"
     if args.json:
         print(json.dumps(out, indent=2))
     else:
@@ -401,6 +441,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("scenario", help="scenario file (TOML)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--steps-csv", metavar="PATH", help="write the step-by-step results as CSV")
+    p.add_argument("--draws", type=int, metavar="N",
+                   help="independent random-outage years for the outage statistics (default: the scenario's "
+                        "grid.random_outages.draws; 0 skips them)")
 
     p = add("report", "write the standalone HTML report (and the step-by-step CSV) of one option against the "
             "existing system", _cmd_report)
@@ -431,6 +474,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--export-control", metavar="MODE",
                    help="how AC-coupled output is held back, e.g. none or limiter (default: the scenario's "
                         "grid.ac_export_control)")
+    p.add_argument("--draws", type=int, metavar="N", help="random-outage years per option for the outage spread "
+                   "(default: the scenario's grid.random_outages.draws; 0 skips it)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = add("design", "search every DC and AC arrangement the roof faces allow; rank the valid ones by NPV",

@@ -19,7 +19,7 @@ import pandas as pd
 
 from core import face_arrays
 from core.errors import InputError
-from core.model import conversion, dispatch, metrics, outages, pv, solar, sunshine
+from core.model import conversion, dispatch, metrics, outages, pv, solar, sunshine, tariff
 from core.model import weather as weather_io
 from core.model.loads import build_year, read_load_csv
 from core.model.weather_monthly import monthly_weather
@@ -162,7 +162,8 @@ def prepare_site(sc: Scenario) -> SiteData:
         intervals += outages.read_outages_csv(sc.resolve(sc.grid.outages_path, "grid.outages_path"), tz)
     if sc.grid.random_outages is not None:
         r = sc.grid.random_outages
-        intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed)
+        intervals += outages.random_outages(index, per_year=r.per_year, mean_hours=r.mean_hours, seed=r.seed,
+                                            month_weights=r.month_weights)
     return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
                     longitude=sc.site.longitude, weather=weather, geometry=geometry,
                     load_backed_w=load_b, load_grid_only_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
@@ -310,10 +311,22 @@ def source_power(sc: Scenario, site: SiteData, cache: OrientationCache) -> Sourc
                        per_array_dc_w=per_array, per_array_clipped_w=clipped, per_array_chain=chain)
 
 
-def dispatch_params(sc: Scenario, dt_h: float) -> dispatch.DispatchParams:
+def reconnect_delay_s(sc: Scenario) -> float:
+    """The longest reconnect delay among the scenario's microinverters (their own, else their grid code's)."""
+    used = {a.microinverter for a in sc.arrays if a.coupling == "ac"}
+    if sc.expansion is not None and sc.expansion.microinverter:
+        used.add(sc.expansion.microinverter)
+    delays = [m.reconnect_s if m.reconnect_s is not None else conversion.RECONNECT_DELAY_S[m.grid_code]
+              for name, m in sc.microinverters.items() if name in used]
+    return max(delays, default=0.0)
+
+
+def dispatch_params(sc: Scenario, dt_h: float, **changes) -> dispatch.DispatchParams:
+    """The engine's parameters from the scenario (``changes`` override fields, e.g. ``standing_draw_w=0``)."""
     b, ic, g = sc.battery, sc.inverter_charger, sc.grid
     usable = b.usable_kwh * 1000.0 if b else 0.0
     curve = conversion.inverter_curve(ic.rating_w, ic.efficiency)
+    mode = g.ac_control_mode
     return dispatch.DispatchParams(
         dt_h=dt_h, usable_wh=usable, initial_wh=usable * (b.initial_pct if b else 0.0) / 100.0,
         reserve_wh=usable * (b.reserve_pct if b else 0.0) / 100.0, floor_wh=usable * (b.floor_pct if b else 0.0) / 100.0,
@@ -324,7 +337,41 @@ def dispatch_params(sc: Scenario, dt_h: float) -> dispatch.DispatchParams:
         charger_rating_w=ic.rating_w if ic.charger_rating_w is None else ic.charger_rating_w,
         charger_efficiency=ic.charger_efficiency, idle_w=ic.idle_w, standing_draw_w=g.standing_draw_w,
         metering_site=g.metering == "site", export_allowed=g.export_allowed, export_limit_w=g.export_limit_w,
-        limiter=g.ac_export_control == "limiter", recharge_reserve_from_grid=g.recharge_reserve_from_grid)
+        limiter=mode == "limiter" or (mode == "islanded" and g.islanded_limiter),
+        recharge_reserve_from_grid=g.recharge_reserve_from_grid,
+        taper_start_wh=usable * b.taper_start_pct / 100.0 if b and b.taper_start_pct < 100.0 and b.model == "taper"
+        else float("inf"),
+        kibam_c=b.kibam_c if b and b.model == "kibam" else 0.0, kibam_k_per_h=b.kibam_k_per_h if b else 1.0,
+        taper_end_fraction=b.taper_end_fraction if b else 0.0,
+        discharge_taper_wh=usable * b.discharge_taper_pct / 100.0 if b else 0.0,
+        ac_control=dispatch.AC_CONTROL_CODES[mode], relay_open_wh=usable * g.relay_open_pct / 100.0,
+        relay_close_wh=usable * g.relay_close_pct / 100.0, reconnect_s=reconnect_delay_s(sc),
+        charge_window_target_wh=usable * g.charge_window.target_pct / 100.0 if g.charge_window and b else 0.0,
+    ) if not changes else dataclasses.replace(dispatch_params(sc, dt_h), **changes)
+
+
+def charge_window(sc: Scenario, site: SiteData) -> np.ndarray:
+    """1.0 in the steps inside the grid-charging window (local clock), else 0.0."""
+    w = sc.grid.charge_window
+    if w is None:
+        return np.zeros(len(site.index))
+    hour = np.asarray(tariff.local_clock(site.index, site.timezone).hour)
+    return tariff.in_hours(hour, *w.hours).astype(float)
+
+
+def import_prices(sc: Scenario, site: SiteData) -> np.ndarray:
+    """The import price per kWh of every step under the scenario's tariff (time-of-use periods by local clock)."""
+    t = sc.tariff
+    return tariff.import_prices(tariff.local_clock(site.index, site.timezone), base_price=t.import_price_per_kwh,
+                                periods=t.periods, holidays_country=t.holidays)
+
+
+def dispatch_inputs(sc: Scenario, site: SiteData, sources: SourcePower) -> dispatch.DispatchInputs:
+    return dispatch.DispatchInputs(
+        load_backed_w=site.load_backed_w, load_grid_only_w=site.load_grid_only_w, dc_out_w=sources.dc.out_w,
+        dc_loss_w=sources.dc.loss_w, ac_backed_out_w=sources.ac_backed.out_w, ac_backed_loss_w=sources.ac_backed.loss_w,
+        ac_grid_out_w=sources.ac_grid.out_w, ac_grid_loss_w=sources.ac_grid.loss_w, grid_up=site.grid_up,
+        charge_window=charge_window(sc, site))
 
 
 @dataclass(frozen=True)
@@ -341,11 +388,7 @@ class SimulationResult:
 def run(sc: Scenario, site: SiteData, sources: SourcePower, *, compiled: bool = True) -> SimulationResult:
     """Dispatch and figures for given source powers (the part a count-only change repeats)."""
     params = dispatch_params(sc, site.dt_h)
-    inputs = dispatch.DispatchInputs(
-        load_backed_w=site.load_backed_w, load_grid_only_w=site.load_grid_only_w, dc_out_w=sources.dc.out_w,
-        dc_loss_w=sources.dc.loss_w, ac_backed_out_w=sources.ac_backed.out_w, ac_backed_loss_w=sources.ac_backed.loss_w,
-        ac_grid_out_w=sources.ac_grid.out_w, ac_grid_loss_w=sources.ac_grid.loss_w, grid_up=site.grid_up)
-    flows = dispatch.dispatch(inputs, params, compiled=compiled)
+    flows = dispatch.dispatch(dispatch_inputs(sc, site, sources), params, compiled=compiled)
     # One block per column: a DataFrame built from one 2-D block plus columns added one by one costs more than
     # the engine itself on an hourly year (docs/performance.md). The engine's rows are this run's own; the
     # site's and the sources' arrays are copied so that editing the table never reaches the caches.

@@ -48,7 +48,7 @@ SAMPLES = ROOT / "sample_sites"
 #: The tabs, in order: (label, view). A view is a function of the page model alone; it runs only while its tab is
 #: shown. A new view is one more line here.
 VIEWS = (
-    ("Energy by month", energy.render),
+    ("Energy by month", energy.render_tab),
     ("Typical day", day.render),
     ("Output vs base load", baseload.render),
     ("Options", compare.render),

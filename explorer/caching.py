@@ -16,7 +16,7 @@ import json
 import streamlit as st
 
 from core.scenario import Scenario, scenario_to_dict
-from core.simulate import OrientationCache, SiteData, prepare_site
+from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site
 
 
 def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> str:
@@ -124,3 +124,31 @@ def page_model(sc: Scenario, option: str):
     """The page's figures for the chosen option (:class:`explorer.page_model.PageModel`), built once per
     setting from the cached comparison."""
     return _page_model(comparison_key(sc), option, sc)
+
+
+@st.cache_resource(max_entries=24, show_spinner=False)
+def _outage_draws(key: str, _sim: SimulationResult):
+    from core.analyses.outage_draws import outage_draws
+
+    return outage_draws(_sim.scenario, _sim.site, _sim.sources)
+
+
+def outage_draws(sim: SimulationResult):
+    """The scenario's random outage years through the engine (None without random outages)."""
+    sc = sim.scenario
+    return _outage_draws(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                                  "microinverters", "arrays", "grid")), sim)
+
+
+@st.cache_data(max_entries=48, show_spinner=False)
+def _money(key: str, _sim: SimulationResult) -> dict:
+    from core.analyses.running_costs import money
+
+    return money(_sim)
+
+
+def money(sim: SimulationResult) -> dict:
+    """The year's bill and what the standing and idle draws cost (see core.analyses.running_costs)."""
+    sc = sim.scenario
+    return _money(site_key(sc) + _key(sc, ("modules", "battery", "inverter_charger", "controllers",
+                                           "microinverters", "arrays", "grid", "tariff")), sim)

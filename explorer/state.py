@@ -104,7 +104,7 @@ def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
         microinverter=e.microinverter if e else None,
         battery_kwh=float(b.usable_kwh) if b else None, reserve_pct=float(b.reserve_pct) if b else None,
         standing_draw_w=float(g.standing_draw_w), export_allowed=bool(g.export_allowed),
-        export_limit_w=float(g.export_limit_w), limiter=g.ac_export_control == "limiter",
+        export_limit_w=float(g.export_limit_w), limiter=g.ac_control_mode == "limiter",
         outages="scenario" if "scenario" in outage_modes(sc) else "none",
         outages_per_year=float(random.per_year) if random else DEFAULT_OUTAGES_PER_YEAR,
         outage_mean_hours=float(random.mean_hours) if random else DEFAULT_OUTAGE_HOURS,
@@ -147,9 +147,10 @@ def apply_controls(sc: Scenario, c: Controls) -> Scenario:
     if b is not None and c.battery_kwh is not None:
         b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),
                                 reserve_pct=float(c.reserve_pct if c.reserve_pct is not None else b.reserve_pct))
-    g = dataclasses.replace(sc.grid, standing_draw_w=float(c.standing_draw_w), export_allowed=bool(c.export_allowed),
-                            export_limit_w=float(c.export_limit_w) if c.export_allowed else sc.grid.export_limit_w,
-                            ac_export_control="limiter" if c.limiter else "none")
+    mode = "limiter" if c.limiter else ("none" if sc.grid.ac_control_mode == "limiter" else sc.grid.ac_control_mode)
+    g = dataclasses.replace(sc.grid.with_ac_control(mode), standing_draw_w=float(c.standing_draw_w),
+                            export_allowed=bool(c.export_allowed),
+                            export_limit_w=float(c.export_limit_w) if c.export_allowed else sc.grid.export_limit_w)
     if c.outages == "none":
         g = dataclasses.replace(g, outages_path=None, random_outages=None)
     elif c.outages == "random":

@@ -41,7 +41,14 @@ def plant(draw):
         idle_w=draw(st.floats(0.0, 80.0)), standing_draw_w=draw(st.floats(0.0, 100.0)),
         metering_site=draw(st.booleans()), export_allowed=draw(st.booleans()),
         export_limit_w=draw(st.floats(0.0, 3_000.0)), limiter=draw(st.booleans()),
-        recharge_reserve_from_grid=draw(st.booleans()))
+        recharge_reserve_from_grid=draw(st.booleans()),
+        # charge taper, discharge limit near empty, the four ways of holding AC output back, the charge window
+        taper_start_wh=usable * draw(st.sampled_from([0.5, 0.9, 1.0, np.inf])),
+        taper_end_fraction=draw(st.floats(0.0, 1.0)), discharge_taper_wh=usable * draw(st.floats(0.0, 0.3)),
+        ac_control=draw(st.integers(0, 3)), relay_open_wh=usable * draw(st.floats(0.5, 1.0)),
+        relay_close_wh=usable * draw(st.floats(0.0, 0.5)), reconnect_s=draw(st.sampled_from([0.0, 60.0, 300.0, 7200.0])),
+        charge_window_target_wh=usable * draw(st.floats(0.0, 1.0)),
+        kibam_c=draw(st.sampled_from([0.0, 0.0, 0.3, 0.9])), kibam_k_per_h=draw(st.floats(0.05, 5.0)))
     scale = draw(st.floats(0.0, 3.0))
     dc_mod = rng.uniform(0, 4000, STEPS) * scale * (rng.random(STEPS) < 0.6)
     ac_mod = rng.uniform(0, 450, STEPS) * scale
@@ -51,7 +58,8 @@ def plant(draw):
     inputs = DispatchInputs(
         load_backed_w=rng.uniform(0, 3000, STEPS) * draw(st.floats(0, 2)), load_grid_only_w=rng.uniform(0, 2000, STEPS),
         dc_out_w=dc.out_w, dc_loss_w=dc.loss_w, ac_backed_out_w=acb.out_w, ac_backed_loss_w=acb.loss_w,
-        ac_grid_out_w=acg.out_w, ac_grid_loss_w=acg.loss_w, grid_up=rng.random(STEPS) > draw(st.floats(0, 1)))
+        ac_grid_out_w=acg.out_w, ac_grid_loss_w=acg.loss_w, grid_up=rng.random(STEPS) > draw(st.floats(0, 1)),
+        charge_window=(rng.random(STEPS) < 0.3).astype(float))
     potential = dc_mod + 3 * ac_mod + 2 * ac_mod * 0.8
     clipped = dc.clipped_w + acb.clipped_w + acg.clipped_w
     return p, inputs, potential, clipped
@@ -79,6 +87,11 @@ def test_energy_identity_holds_every_step_and_for_the_year(case):
     for name in FLOWS:
         assert f[name].min() >= -1e-9, name
     assert f["soc_wh"].max() <= p.usable_wh + 1e-9
+    # Unserved splits into backed-up load not served and grid-only load shed by design; the kinds of AC
+    # curtailment are parts of the AC curtailment.
+    np.testing.assert_allclose(f["unserved_backed_up_w"] + f["shed_grid_only_w"], f["unserved_w"], atol=1e-9)
+    kinds = f["curtailed_limiter_w"] + f["curtailed_fw_w"] + f["curtailed_relay_w"] + f["curtailed_wait_w"]
+    assert np.all(kinds <= f["curtailed_ac_backed_w"] + f["curtailed_ac_grid_w"] + 1e-6)
     assert np.all(f["load_served_w"] + f["unserved_w"]
                   <= inputs.load_backed_w + inputs.load_grid_only_w + 1e-6)
 

@@ -194,7 +194,8 @@ def test_costs_add_up(maple):
                     expected += sc.controllers[p.controller].price
             else:
                 expected += p.units * sc.microinverters[p.microinverter].price
-                expected += d.cost_limiter if p.export_control == "limiter" else 0.0
+                # a limiter (meter, sensors) or a relay is bought; islanded is a mode of the inverter-charger
+                expected += d.cost_limiter if p.export_control in ("limiter", "relay") else 0.0
         couplings = {p.coupling for p in design.candidate.parts}
         expected += (d.cost_fixed_dc if "dc" in couplings else 0.0) + (d.cost_fixed_ac if "ac" in couplings else 0.0)
         assert design.cost.total == pytest.approx(expected)

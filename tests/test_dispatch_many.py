@@ -96,3 +96,25 @@ def test_a_buffer_of_the_wrong_shape_is_refused():
     load_b, load_g, up, sources = _case(2, 2, 50)
     with pytest.raises(ValueError, match="shape"):
         dispatch_many(load_b, load_g, up, sources, _params(), out=np.empty((3, len(FLOWS), 50)))
+
+
+def test_each_variant_may_have_its_own_grid():
+    # Many outage years through one batch: variant i with its own grid mask equals the single engine on it.
+    load_b, load_g, _, sources = _case(3, 1, 200)
+    rng = np.random.default_rng(9)
+    ups = rng.random((4, 200)) > 0.3
+    p = _params()
+    shared = {k: v[0] for k, v in sources.items()}  # one set of sources for every variant
+    many = dispatch_many(load_b, load_g, ups, shared, p)
+    for i in range(4):
+        np.testing.assert_allclose(many[i], _one(load_b, load_g, ups[i], sources, 0, p), rtol=0, atol=1e-9)
+
+
+def test_the_packed_record_and_the_row_indices_follow_their_lists():
+    # The kernel's indices are generated from FLOWS and DispatchParams' fields; packing keeps their order.
+    from core.model.dispatch import Flow, Param
+
+    assert [f.name for f in Flow] == list(FLOWS) and [int(f) for f in Flow] == list(range(len(FLOWS)))
+    p = _params(idle_w=17.0, limiter=True)
+    packed = p.packed()
+    assert packed[Param.idle_w] == 17.0 and packed[Param.limiter] == 1.0 and len(packed) == len(Param)

@@ -63,9 +63,9 @@ def test_year_totals_by_hand():
     # loads supplied from PV = load served − grid import = 1.15 − 0.2
     assert e["loads_from_pv"] == approx(0.95)
     # hours: one step each with export, uncontrolled export, curtailment; one outage hour with unserved load, of
-    # which 50 W on the backed-up side (grid-only loads are dropped in an outage by design)
+    # which 50 W on the backed-up side (grid-only loads are dropped in an outage by design); never off-grid by choice
     assert t.hours == approx({"export": 1.0, "export_uncontrolled": 1.0, "outage": 1.0, "unserved": 1.0,
-                              "unserved_backed_up": 1.0, "curtailment": 1.0})
+                              "unserved_backed_up": 1.0, "curtailment": 1.0, "islanded": 0.0})
 
 
 def test_summarise_reads_the_same_totals():

@@ -46,7 +46,7 @@ from core.face_arrays import array_breakdown
 from core.model import economics as econ
 from core.model import metrics
 from core.scenario import Scenario
-from core.simulate import OrientationCache, SimulationResult, SiteData, prepare_site, simulate
+from core.simulate import OrientationCache, SimulationResult, SiteData, import_prices, prepare_site, simulate
 
 __all__ = ["EXPORT_EPS_KWH", "LOADS_ROW", "TIE_KWH", "Chains", "Comparison", "OptionResult", "Verdict", "added_modules",
            "compare", "conversion_chains", "make_verdict", "option_delta", "option_economics", "priced_scenario",
@@ -129,7 +129,10 @@ def option_delta(base: SimulationResult, opt: SimulationResult) -> dict[str, flo
     expansion = opt.sources.per_array_dc_w.get(EXPANSION_ARRAY)
     potential = 0.0 if expansion is None else float(np.sum(expansion) * opt.site.dt_h / 1000.0)
     usable = opt.scenario.battery.usable_kwh if opt.scenario.battery else 0.0
-    return metrics.delta(base.results, opt.results, expansion_potential_kwh=potential, usable_kwh=usable)
+    out = metrics.delta(base.results, opt.results, expansion_potential_kwh=potential, usable_kwh=usable)
+    # priced by the hour (time-of-use periods by the local clock), in the tariff's currency
+    out["import_cost_saved"] = _import_cost(base) - _import_cost(opt)
+    return out
 
 
 def added_modules(sc_option: Scenario) -> int:
@@ -142,6 +145,11 @@ def priced_scenario(sc: Scenario, modules: int) -> Scenario:
     return sc if sc.expansion is None else sc.replace(expansion=sc.expansion.priced_for(modules))
 
 
+def _import_cost(sim: SimulationResult) -> float:
+    price = import_prices(sim.scenario, sim.site)
+    return float(np.sum(sim.steps["grid_import_w"].to_numpy() * price) * sim.site.dt_h / 1000.0)
+
+
 def option_economics(sc: Scenario, option: str, delta: dict[str, float]) -> econ.Economics:
     """The option's economics from its first-year difference (paid export only; uncontrolled export earns nothing).
 
@@ -150,8 +158,12 @@ def option_economics(sc: Scenario, option: str, delta: dict[str, float]) -> econ
     t, e = sc.tariff, sc.expansion
     investment = 0.0 if e is None else (e.cost_dc if option == Option.DC else e.cost_ac)
     paid_export = delta["export_allowed_added_kwh"] if sc.grid.export_allowed else 0.0
-    return econ.appraise(investment=investment, import_avoided_kwh=delta["grid_import_saved_kwh"],
-                         export_added_kwh=paid_export, import_price_per_kwh=t.import_price_per_kwh,
+    # With time-of-use periods the import saved is worth its hours' prices: the mean price of the saving.
+    saved_kwh, saved_cost = delta["grid_import_saved_kwh"], delta.get("import_cost_saved")
+    price = t.import_price_per_kwh if saved_cost is None or not t.periods or abs(saved_kwh) < 1e-9 \
+        else saved_cost / saved_kwh
+    return econ.appraise(investment=investment, import_avoided_kwh=saved_kwh,
+                         export_added_kwh=paid_export, import_price_per_kwh=price,
                          export_price_per_kwh=t.export_price_per_kwh, escalation_pct=t.escalation_pct,
                          discount_pct=t.discount_pct, years=t.years,
                          degradation_pct_per_year=t.degradation_pct_per_year, currency=t.currency)
@@ -347,4 +359,22 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
     results = {k: dataclasses.replace(r, checks=tuple(found.get(k, ()))) for k, r in results.items()}
     verdict = (make_verdict(sc, results, asked=layout.count) if layout.count > 0 else
                Verdict(None, None, "No panels are added (a count of 0): every option is the existing system.", ()))
+    if sc.grid.charge_window is not None and base_sim is not None:
+        verdict = _with_reason(verdict, _charge_window_reason(sc, base_sim))
     return Comparison(scenario=sc, layout=layout, options=results, verdict=verdict)
+
+
+def _charge_window_reason(sc: Scenario, base: SimulationResult) -> str:
+    """Whether grid charging by the clock pays, for the existing system, in one sentence."""
+    from core.analyses.running_costs import charge_window_value
+
+    v = charge_window_value(base)
+    w, cur = sc.grid.charge_window, sc.tariff.currency
+    verb = "saves" if v["pays"] else "costs"
+    return (f"Grid charging from {w.hours[0]}:00 to {w.hours[1]}:00 up to {w.target_pct:.0f} % {verb} "
+            f"{abs(v['cost']):.0f} {cur} a year against the same system without it "
+            f"({v['extra_import_kwh']:+.0f} kWh of import): it {'pays' if v['pays'] else 'does not pay'}.")
+
+
+def _with_reason(v: Verdict, reason: str) -> Verdict:
+    return Verdict(energy=v.energy, money=v.money, text=f"{v.text} {reason}".strip(), reasons=(*v.reasons, reason))

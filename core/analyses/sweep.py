@@ -38,7 +38,15 @@ from core.analyses.validity import failed_rules
 from core.errors import InputError
 from core.model import dispatch, metrics
 from core.scenario import Scenario
-from core.simulate import OrientationCache, SiteData, SourcePower, dispatch_params, prepare_site, source_power
+from core.simulate import (
+    OrientationCache,
+    SiteData,
+    SourcePower,
+    charge_window,
+    dispatch_params,
+    prepare_site,
+    source_power,
+)
 
 #: Columns of the sweep table, in order: where the cell is, the new modules simulated, its difference from the
 #: existing system (:data:`core.model.metrics.DELTA_KEYS`: kWh a year unless named otherwise), whether it may be
@@ -139,6 +147,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
     site = site or prepare_site(sc)
     cache = cache if cache is not None else OrientationCache()
     params = dispatch_params(sc, site.dt_h)
+    window = charge_window(sc, site)
     n = len(site.index)
     per_variant = (len(dispatch.FLOWS) + len(_SOURCE_KEYS)) * n * 8
     batch = max(1, int(batch_bytes // per_variant))
@@ -156,7 +165,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
                 buffers[key][i] = row
         flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_only_w, site.grid_up,
                                        {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
-                                       out=buffers["flows"][:k])
+                                       out=buffers["flows"][:k], charge_window=window)
         return [_CellYear(scenario=sc_v, site=site, sources=s,
                           results=metrics.year_totals(_columns(flows[i], s, site), dt_h=site.dt_h,
                                                       initial_wh=params.initial_wh))

@@ -193,3 +193,9 @@ def efficiency_at(curve: InverterCurve, p_ac_w):
     p_ac_w = np.asarray(p_ac_w, dtype=float)
     dc = curve.dc_for_ac(p_ac_w)
     return np.divide(p_ac_w, dc, out=np.zeros_like(p_ac_w), where=dc > 0)
+
+
+#: The wait after the grid returns before a grid-following inverter produces again, per grid code (s).
+#: IEEE 1547-2018 §4.10.3 (enter service): default delay 300 s, adjustable 0–600 s (from memory);
+#: EN 50549-1:2019 §4.10 (connection and starting to generate): default observation time 60 s (from memory).
+RECONNECT_DELAY_S = {"ieee1547_2018": 300.0, "en50549_1": 60.0}

@@ -20,7 +20,10 @@ ENERGY_KEYS = (
     "curtailed", "curtailed_dc", "curtailed_ac", "clipped", "exported", "exported_uncontrolled", "grid_import",
     "grid_import_standing", "battery_charge", "battery_discharge", "losses", "conversion_losses",
     "battery_losses", "stored_change", "balance_error", "pv_direct", "pv_to_battery", "ac_direct",
-    "unserved_backed_up",
+    "unserved_backed_up", "shed_grid_only",
+    # Where AC-coupled output was held back (parts of curtailed_ac): an export limiter, frequency-watt while
+    # off-grid, the SOC relay open, the microinverters' reconnect wait.
+    "curtailed_limiter", "curtailed_frequency_watt", "curtailed_relay", "reconnect_wait",
 )
 #: Further year figures (kWh) beside :data:`ENERGY_KEYS`, which the option deltas and the headline need: clipping
 #: per side, allowed export, what the loads got from PV net of grid import (``loads_from_pv``) and the
@@ -30,6 +33,9 @@ DETAIL_KEYS = ("clipped_dc", "clipped_ac", "exported_allowed", "loads_from_pv", 
 TOTAL_KEYS = ENERGY_KEYS + DETAIL_KEYS
 #: Powers below this count as none when counting hours (W): rounding of the engine's sums.
 HOURS_EPS_W = 1e-6
+#: Engine flows behind the held-back figures; a table without them (an older steps file) counts zero.
+_HELD_BACK = {"curtailed_limiter": "curtailed_limiter_w", "curtailed_frequency_watt": "curtailed_fw_w",
+              "curtailed_relay": "curtailed_relay_w", "reconnect_wait": "curtailed_wait_w"}
 
 _CONVERSION_LOSSES = ("controller_loss_w", "ac_backed_conversion_loss_w", "ac_grid_conversion_loss_w", "inverter_loss_w",
                       "idle_w", "charger_loss_w")
@@ -77,7 +83,10 @@ def hours_with(series_w: np.ndarray, dt_h: float) -> float:
 
 def _arrays(steps: pd.DataFrame) -> dict[str, np.ndarray]:
     """The columns the figures need, as arrays."""
-    return {name: steps[name].to_numpy(dtype=bool if name == "grid_up" else float) for name in INPUT_COLUMNS}
+    out = {name: steps[name].to_numpy(dtype=bool if name == "grid_up" else float) for name in INPUT_COLUMNS}
+    out.update({name: steps[name].to_numpy(dtype=float) for name in (*_HELD_BACK.values(), "islanded")
+                if name in steps})
+    return out
 
 
 def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> dict[str, np.ndarray]:
@@ -93,6 +102,11 @@ def _derived(c: Mapping[str, np.ndarray], *, initial_wh: float, dt_h: float) -> 
     # Grid-only loads are dropped in every outage by design; the backed-up part is what ride-through is about.
     d["unserved_backed_up"] = np.maximum(c["unserved_w"] - c["load_grid_only_w"] * ~np.asarray(c["grid_up"], dtype=bool),
                                          0.0)
+    d["shed_grid_only"] = d["unserved"] - d["unserved_backed_up"]  # grid-only load dropped in outages by design
+    zero = np.zeros(len(d["unserved"]))
+    for key, column in _HELD_BACK.items():
+        d[key] = c[column] if column in c else zero
+    d["islanded"] = c["islanded"] if "islanded" in c else zero  # 1 in steps the inverter-charger ran off-grid
     d["pv_potential_dc"] = c["pv_potential_dc_w"]
     d["pv_potential_ac"] = c["pv_potential_ac_w"]
     d["pv_potential"] = d["pv_potential_dc"] + d["pv_potential_ac"]
@@ -255,6 +269,7 @@ def _hours(d: Mapping[str, np.ndarray], grid_up: np.ndarray, dt_h: float) -> dic
         "unserved": hours_with(d["unserved"], dt_h),
         "unserved_backed_up": hours_with(d["unserved_backed_up"], dt_h),
         "curtailment": hours_with(d["curtailed"], dt_h),
+        "islanded": hours_with(d["islanded"], dt_h),
     }
 
 

@@ -9,6 +9,7 @@ colour-blind safe).
 from __future__ import annotations
 
 import altair as alt
+import numpy as np
 import pandas as pd
 
 from core.present import figures as palette
@@ -244,4 +245,27 @@ def outage_chart(events: pd.DataFrame) -> alt.LayerChart:
         tooltip=[alt.Tooltip("label:N", title="Start"), alt.Tooltip("hours:Q", title="Length (h)", format=".1f"),
                  alt.Tooltip("unserved_kwh:Q", title="Unserved (kWh)", format=".1f"),
                  alt.Tooltip("lowest_soc_pct:Q", title="Lowest SOC (%)", format=".1f")],
+    ).properties(width=WIDTH, height=HEIGHT)
+
+
+def outage_draws_chart(unserved_kwh, p50: float, p90: float) -> alt.Chart:
+    """How many of the simulated outage years left how much backed-up load unserved; bars coloured by where they
+    lie against the typical year (P50) and the one-in-ten year (P90)."""
+    values = np.asarray(unserved_kwh, dtype=float)
+    top = max(float(values.max()), 1e-3)
+    counts, edges = np.histogram(values, bins=min(20, max(1, len(np.unique(values)))), range=(0.0, top))
+    labels = [f"{lo:.1f}–{hi:.1f}" for lo, hi in zip(edges[:-1], edges[1:], strict=True)]
+    kinds = ["up to the typical year (P50)", "between P50 and P90", "worse than one year in ten (P90)"]
+    kind = [kinds[0] if lo < p50 or lo == 0 else kinds[1] if lo < p90 else kinds[2] for lo in edges[:-1]]
+    frame = pd.DataFrame({"range": labels, "years": counts, "kind": kind})
+    colours = dict(zip(kinds, [palette.BLUISH_GREEN, palette.ORANGE, palette.VERMILLION], strict=True))
+    return alt.Chart(frame, title=alt.Title(
+        "How much backed-up load could go unserved in a year?",
+        subtitle=f"{values.size} independent years of random outages; grid-only loads, shed by design, not counted")
+    ).mark_bar().encode(
+        x=alt.X("range:N", sort=None, title="Backed-up load unserved in the year (kWh)",
+                axis=alt.Axis(labelAngle=-30)),
+        y=alt.Y("years:Q", title="Simulated outage years"),
+        color=alt.Color("kind:N", scale=alt.Scale(domain=kinds, range=list(colours.values())), legend=_legend("")),
+        tooltip=[alt.Tooltip("range:N", title="Unserved (kWh)"), alt.Tooltip("years:Q", title="Years")],
     ).properties(width=WIDTH, height=HEIGHT)

@@ -304,8 +304,9 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
                  help="microinverter output taken by the loads or the charger"),
         Headline("exported_allowed", "Export within the limit", "kWh/yr", e["exported_allowed"],
                  eb["exported_allowed"], True, help="allowed export only"),
-        Headline("unserved", "Unserved in outages", "kWh/yr", e["unserved"], eb["unserved"], False,
-                 help="backed-up load that could not be served during grid outages"),
+        Headline("unserved", "Backed-up loads unserved", "kWh/yr", e["unserved_backed_up"], eb["unserved_backed_up"],
+                 False, help="backed-up load that could not be served during grid outages (a failure); grid-only "
+                             "loads shed by design are not counted"),
         Headline("cycles", "Battery cycles", "cycles/yr", r.battery.get("equivalent_full_cycles"),
                  b.battery.get("equivalent_full_cycles"), False, help="equivalent full cycles"),
     ]
@@ -313,6 +314,8 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
 
 def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.DataFrame:
     """One row per grid outage of the year.
+
+    Unserved counts the backed-up loads only: grid-only loads are shed in every outage by design.
 
     Parameters
     ----------
@@ -337,7 +340,8 @@ def outage_events(steps: pd.DataFrame, dt_h: float, usable_wh: float) -> pd.Data
     edges = np.diff(np.concatenate([[0], down, [0]]))
     starts = np.flatnonzero(edges == 1)
     ends = np.flatnonzero(edges == -1)
-    unserved = steps["unserved_w"].to_numpy()
+    unserved = (steps["unserved_backed_up_w"] if "unserved_backed_up_w" in steps
+                else steps["unserved_w"] - steps["load_grid_only_w"] * ~steps["grid_up"]).to_numpy()
     soc = steps["soc_wh"].to_numpy()
     rows = []
     for s, e in zip(starts, ends, strict=True):

@@ -26,11 +26,14 @@ ENERGY_LABELS = {
     "pv_potential": "PV potential (module DC)", "pv_potential_dc": "  DC-coupled arrays",
     "pv_potential_ac": "  AC-coupled arrays", "harvested": "PV harvested", "curtailed": "Curtailed",
     "curtailed_dc": "  DC-coupled", "curtailed_ac": "  AC-coupled", "clipped": "Clipped", "exported": "Exported",
-    "exported_uncontrolled": "  uncontrolled", "grid_import": "Grid import", "grid_import_standing": "  standing draw",
+    "exported_uncontrolled": "  uncontrolled", "grid_import": "Grid import", "grid_import_standing": "  while the standing draw was held",
     "battery_charge": "Battery charge", "battery_discharge": "Battery discharge", "losses": "Losses",
     "conversion_losses": "  conversion", "battery_losses": "  battery", "stored_change": "Stored energy change",
     "balance_error": "Balance error", "pv_direct": "PV used directly", "pv_to_battery": "PV into the battery",
-    "ac_direct": "AC-coupled PV used directly", "unserved_backed_up": "Unserved backed-up loads",
+    "ac_direct": "AC-coupled PV used directly",
+    "unserved_backed_up": "  backed-up load unserved (a failure)", "shed_grid_only": "  grid-only load shed by design",
+    "curtailed_limiter": "  AC: by the export limiter", "curtailed_frequency_watt": "  AC: by frequency-watt",
+    "curtailed_relay": "  AC: relay open", "reconnect_wait": "  AC: waiting to reconnect",
 }
 
 #: Width of a chart in the report (px); the page's charts fill their container instead.
@@ -195,8 +198,8 @@ def report_html(sim, baseline, *, option_label: str, headline: Sequence[fig.Head
     if events.empty:
         parts.append("<p>No grid outages in this setting.</p>")
     else:
-        parts.append(_table(["Start (local standard time)", "Length (h)", "Unserved (kWh)", "Unserved (h)",
-                             "Lowest SOC (%)"],
+        parts.append(_table(["Start (local standard time)", "Length (h)", "Backed-up unserved (kWh)",
+                             "Backed-up unserved (h)", "Lowest SOC (%)"],
                             [[r.start.strftime("%d %b %H:%M"), f"{r.hours:.1f}", f"{r.unserved_kwh:.1f}",
                               f"{r.unserved_hours:.1f}", f"{r.lowest_soc_pct:.1f}"] for r in events.itertuples()]))
 

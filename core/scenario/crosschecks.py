@@ -95,6 +95,7 @@ def cross_check(sc: Scenario, r: Reader) -> None:
     if sc.grid.export_allowed and sc.grid.export_limit_w <= 0:
         r.fail("grid.export_limit_w", "export is allowed but the export limit is 0 W",
                "set export_limit_w, or export_allowed = false for zero export")
+    grid_checks(sc, r)
     d = sc.design
     if d is not None:
         ref(d.module, sc.modules, "design.module", "module")
@@ -148,3 +149,41 @@ def with_face_orientations(sc: Scenario) -> Scenario:
                                                                 azimuth_deg=faces[a.face].azimuth_deg)
                    for a in sc.arrays)
     return dataclasses.replace(sc, arrays=arrays) if arrays != sc.arrays else sc
+
+
+def _hours(r: Reader, where: str, hours: tuple[int, int]) -> None:
+    start, end = hours
+    if not (0 <= start <= 23 and 1 <= end <= 24) or start == end:
+        r.fail(where, f"{list(hours)} is not a [start, end) pair of clock hours",
+               "write [start, end] with start 0…23 and end 1…24, e.g. [16, 21]; [22, 6] wraps past midnight")
+
+
+def grid_checks(sc: Scenario, r: Reader) -> None:
+    """How AC output is held back, the charge window and the tariff's time-of-use periods."""
+    g = sc.grid
+    if g.ac_control is not None and g.ac_export_control is not None and g.ac_control != g.ac_export_control:
+        r.fail("grid.ac_control", f"grid.ac_control = {g.ac_control!r} disagrees with grid.ac_export_control = "
+               f"{g.ac_export_control!r} (its earlier name)", "keep only grid.ac_control")
+    if g.ac_control_mode == "relay" and g.relay_close_pct >= g.relay_open_pct:
+        r.fail("grid.relay_close_pct", f"the relay closes at {g.relay_close_pct} % but opens at {g.relay_open_pct} %",
+               "the closing SOC must be below the opening SOC (hysteresis)")
+    if g.charge_window is not None:
+        _hours(r, "grid.charge_window.hours", g.charge_window.hours)
+        if sc.battery is None:
+            r.fail("grid.charge_window", "grid charging needs a [battery]")
+    ro = g.random_outages
+    if ro is not None and ro.month_weights is not None and sum(ro.month_weights) <= 0:
+        r.fail("grid.random_outages.month_weights", "every month has weight 0: no outage could start",
+               "give the months their relative outage rates, e.g. 1 for most and 3 for the storm season")
+    t = sc.tariff
+    for i, period in enumerate(t.periods):
+        _hours(r, f"tariff.periods[{i}].hours", period.hours)
+    if t.holidays is not None:
+        try:
+            import holidays
+        except ImportError:  # pragma: no cover - a declared dependency
+            r.fail("tariff.holidays", "the holidays package is not installed", "pip install holidays")
+        if t.holidays not in holidays.list_supported_countries():
+            near = difflib.get_close_matches(t.holidays, list(holidays.list_supported_countries()), n=1, cutoff=0.3)
+            r.fail("tariff.holidays", f"{t.holidays!r} is not a country code the holidays package knows",
+                   f"did you mean {near[0]!r}?" if near else "use an ISO 3166 code such as 'US' or 'DE'")

@@ -104,6 +104,20 @@ class Battery:
     reserve_pct: float = field(default=30.0, metadata=_num(0, 100))
     floor_pct: float = field(default=5.0, metadata=_num(0, 100))
     initial_pct: float = field(default=50.0, metadata=_num(0, 100))
+    # Charge acceptance (see core.model.dispatch): full charge power up to the knee, then falling to
+    # taper_end_fraction of it at full; 100 turns the taper off. Defaults for LFP (from memory): the
+    # constant-voltage phase begins near 90 % SOC and charging ends when the current falls to about 0.05 C.
+    taper_start_pct: float = field(default=90.0, metadata=_num(0, 100))
+    taper_end_fraction: float = field(default=0.05, metadata=_num(0, 1))
+    # Below this SOC the discharge limit falls linearly to zero at empty (the cell voltage drops steeply near
+    # empty; from memory, LFP holds its rated current down to a few percent). 0 turns it off.
+    discharge_taper_pct: float = field(default=5.0, metadata=_num(0, 50))
+    # "taper" above, or the kinetic battery model of Manwell & McGowan (1993): two wells of charge, the
+    # available share kibam_c and the rate constant kibam_k_per_h between them (defaults from memory, of the
+    # order fitted to lead-acid batteries; fit them to the battery's discharge curves at two rates).
+    model: Literal["taper", "kibam"] = "taper"
+    kibam_c: float = field(default=0.4, metadata=_num(0.01, 0.99))
+    kibam_k_per_h: float = field(default=0.8, metadata=_num(0.001, 100, lo_open=True))
 
 
 @dataclass(frozen=True)
@@ -114,6 +128,9 @@ class InverterCharger:
     charger_rating_w: float | None = field(default=None, metadata=_num(0, 1e6))  # AC input; None = rating_w
     charger_efficiency: float = field(default=0.92, metadata=_num(0.3, 1, lo_open=True))
     idle_w: float = field(default=25.0, metadata=_num(0, 1000))
+    # Time the backed-up side is without voltage when the grid fails and the inverter-charger takes over
+    # (from memory: transfer-relay inverter-chargers state under 20 ms; online double conversion 0 ms).
+    transfer_ms: float = field(default=20.0, metadata=_num(0, 10000))
     # Highest frequency the inverter-charger shifts its islanded output to, to curtail AC-coupled PV.
     islanded_max_hz: float | None = field(default=None, metadata=_num(45, 66))
 
@@ -144,6 +161,8 @@ class Microinverter:
     fw_start_hz: float | None = field(default=None, metadata=_num(45, 66))  # overrides the grid code's default
     fw_droop_pct: float | None = field(default=None, metadata=_num(0.5, 20))
     trip_hz: float | None = field(default=None, metadata=_num(45, 66))
+    # Wait after the grid (or the SOC relay) reconnects before producing; None = the grid code's default.
+    reconnect_s: float | None = field(default=None, metadata=_num(0, 3600))
     price: float | None = field(default=None, metadata=_num(0, 1e6))  # per unit, in the tariff's currency
 
 
@@ -229,10 +248,28 @@ class RandomOutages:
     per_year: float = field(default=4.0, metadata=_num(0, 365))
     mean_hours: float = field(default=3.0, metadata=_num(0, 24 * 30, lo_open=True))
     seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
+    # Independent outage years run together for the statistics (P50, P90, worst); the seed's first draw is the
+    # year the rest of the results show.
+    draws: int = field(default=200, metadata=_num(1, 10000))
+    # Seasonality: twelve relative rates of outages starting in each month, January first; None = even.
+    month_weights: tuple[float, ...] | None = field(default=None, metadata=_num(0, 1000, count=MONTHS))
 
 
-#: How AC-coupled output can be held back when the loads and battery cannot take it (``grid.ac_export_control``).
-AC_CONTROL_MODES = ("none", "limiter")
+#: How AC-coupled output is held back when the loads and battery cannot take it (``grid.ac_control``):
+#: "none" — what is not absorbed leaks into the grid; "limiter" — an export limiter curtails the microinverters;
+#: "islanded" — the inverter-charger runs the backed-up side off-grid and curtails its microinverters by
+#: frequency-watt, connecting only to charge below the reserve or to cover what the battery cannot;
+#: "relay" — a relay opens the microinverter circuit above an SOC and closes it below a lower one.
+AC_CONTROL_MODES = ("none", "limiter", "islanded", "relay")
+AcControl = Literal["none", "limiter", "islanded", "relay"]
+
+
+@dataclass(frozen=True)
+class ChargeWindow:
+    """Grid charging by the clock: inside ``[start, end)`` local hours the charger lifts the SOC to the target."""
+
+    hours: tuple[int, int] = field(default=(1, 5), metadata=_num(0, 24))
+    target_pct: float = field(default=60.0, metadata=_num(0, 100))
 
 
 @dataclass(frozen=True)
@@ -241,10 +278,28 @@ class Grid:
     export_limit_w: float = field(default=0.0, metadata=_num(0, 1e6))
     standing_draw_w: float = field(default=30.0, metadata=_num(0, 10000))
     metering: Literal["site", "inverter"] = "site"
-    ac_export_control: Literal["none", "limiter"] = "none"
+    ac_export_control: AcControl | None = None  # the earlier name of ac_control, still read
+    ac_control: AcControl | None = None  # None = ac_export_control, else "none"
+    relay_open_pct: float = field(default=95.0, metadata=_num(0, 100))  # "relay": opens at or above this SOC …
+    relay_close_pct: float = field(default=85.0, metadata=_num(0, 100))  # … and closes at or below this one
+    islanded_limiter: bool = False  # "islanded": while connected, an export limiter curtails (else it leaks)
     recharge_reserve_from_grid: bool = True
+    charge_window: ChargeWindow | None = None
     outages_path: str | None = None
     random_outages: RandomOutages | None = None
+    momentary_per_month: float = field(default=0.0, metadata=_num(0, 100))  # interruptions shorter than 5 min
+    restore_delay_s: float = field(default=0.0, metadata=_num(0, 3600))  # grid-only loads back after an interruption
+
+    @property
+    def ac_control_mode(self) -> str:
+        """The way AC-coupled output is held back, from ``ac_control`` or its earlier name."""
+        return self.ac_control or self.ac_export_control or "none"
+
+    def with_ac_control(self, mode: str) -> Grid:
+        """The same grid with another mode, written under the key the scenario already uses."""
+        if self.ac_control is None and self.ac_export_control is not None:
+            return dataclasses.replace(self, ac_export_control=mode)
+        return dataclasses.replace(self, ac_control=mode)
 
 
 @dataclass(frozen=True)
@@ -275,9 +330,24 @@ class Expansion:
 
 
 @dataclass(frozen=True)
+class TariffPeriod:
+    """A time-of-use period: its import price applies inside ``[start, end)`` local clock hours (daylight
+    saving applies) on the named days of the listed months. The first matching period wins."""
+
+    name: str
+    price_per_kwh: float = field(metadata=_num(0, 100))
+    hours: tuple[int, int] = field(default=(0, 24), metadata=_num(0, 24))
+    days: Literal["all", "weekdays", "weekends"] = "all"
+    months: tuple[int, ...] = field(default=(1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12), metadata=_num(1, 12))
+
+
+@dataclass(frozen=True)
 class Tariff:
     currency: str = "EUR"
     import_price_per_kwh: float = field(default=0.30, metadata=_num(0, 100))
+    fixed_per_month: float = field(default=0.0, metadata=_num(0, 1e5))
+    holidays: str | None = None  # country code of the holidays package; holidays are priced as weekend days
+    periods: tuple[TariffPeriod, ...] = ()
     export_price_per_kwh: float = field(default=0.0, metadata=_num(0, 100))
     escalation_pct: float = field(default=2.0, metadata=_num(-50, 100))
     discount_pct: float = field(default=3.0, metadata=_num(-50, 100))

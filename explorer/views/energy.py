@@ -31,3 +31,13 @@ def render(m) -> None:
     st.caption("Used directly: PV output taken by the loads as it is made. Into the battery: PV energy charged "
                "(DC bus side). Curtailed and clipped energy are counted on the module side. Conversion losses "
                "are not shown.")
+
+
+def render_tab(m) -> None:
+    """The tab: the year's energy month by month, then what the system's own draws cost."""
+    from explorer.guard import section
+    from explorer.views import running_costs
+
+    render(m)
+    with section("What the system's own draws cost"):
+        running_costs.render(m.sim)

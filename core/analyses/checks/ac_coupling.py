@@ -82,8 +82,8 @@ def ac_coupling_checks(sc: Scenario, sim=None) -> list[Check]:
         status, what = "pass", "the charger and battery can take all of it while the battery has room"
     elif surplus <= limit + room:
         status, what = "pass", f"the rest is exported within the {room:.0f} W export limit"
-    elif g.ac_export_control == "limiter":
-        status, what = "warn", "the rest is curtailed by the export limiter"
+    elif g.ac_control_mode in _HELD_BACK:
+        status, what = "warn", _HELD_BACK[g.ac_control_mode]
     else:
         status, what = "fail", ("the rest flows into the grid: uncontrolled export under a zero-export connection; "
                                 "add an export limiter, fewer AC-coupled panels or a larger charger")
@@ -108,3 +108,12 @@ def ac_coupling_checks(sc: Scenario, sim=None) -> list[Check]:
                       else f"No export beyond {rule} in the simulated year."),
             source="the connection's terms (zero export / export limit)", caution=CAUTION_AC, subject="system"))
     return checks
+
+
+#: How the rest of the AC-coupled surplus is held back, per grid.ac_control mode other than "none".
+_HELD_BACK = {
+    "limiter": "the rest is curtailed by the export limiter",
+    "islanded": ("the backed-up side runs off-grid and curtails the rest by frequency-watt; grid-side "
+                 "microinverters are not held back"),
+    "relay": "a relay opens the microinverter circuit when the battery is nearly full",
+}

@@ -2,8 +2,9 @@
 
 Prices are per unit in the tariff's currency (``price`` on modules, controllers and microinverters); a price not
 given counts as 0. A controller that an existing array already uses is not bought again. An export-control mode
-other than ``"none"`` needs equipment (meter and current sensors, or a relay): ``cost_limiter``, unless the
-system already runs that mode.
+that needs equipment — ``"limiter"`` (meter and current sensors) or ``"relay"`` (a relay and its SOC signal) —
+costs ``cost_limiter``, unless the system already runs that mode; ``"islanded"`` is a way of running the
+inverter-charger and buys nothing (common practice).
 """
 
 from __future__ import annotations
@@ -13,6 +14,9 @@ from dataclasses import dataclass
 from core.analyses.design.candidates import Candidate
 from core.analyses.design.spec import DesignSpec
 from core.scenario import Scenario
+
+#: AC export-control modes that need equipment bought for them (priced as ``cost_limiter``).
+EQUIPPED_MODES = ("limiter", "relay")
 
 
 @dataclass(frozen=True)
@@ -56,7 +60,7 @@ def design_cost(sc: Scenario, spec: DesignSpec, candidate: Candidate) -> Cost:
             add("mounting and wiring, AC", spec.cost_per_module_ac * p.modules)
             if not spec.from_expansion:
                 add(f"microinverters {p.microinverter}", _price(sc.microinverters[p.microinverter].price) * p.units)
-            if p.export_control != "none" and p.export_control != sc.grid.ac_export_control:
+            if p.export_control in EQUIPPED_MODES and p.export_control != sc.grid.ac_control_mode:
                 add(f"export control ({p.export_control})", spec.cost_limiter)
     if any(p.coupling == "dc" for p in candidate.parts):
         add("fixed, DC part", spec.cost_fixed_dc)
