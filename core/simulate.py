@@ -20,7 +20,7 @@ from core.errors import InputError
 from core.model import conversion, dispatch, metrics, outages, pv, solar
 from core.model import weather as weather_io
 from core.model.loads import build_year, read_load_csv
-from core.model.weather_monthly import monthly_weather
+from core.model.weather import monthly_weather
 from core.scenario import Array, Scenario
 from core.timebase import nominal_index, standard_offset
 

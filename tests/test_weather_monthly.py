@@ -6,7 +6,7 @@ import pvlib
 import pytest
 
 from core.errors import InputError
-from core.model.weather_monthly import (
+from core.model.weather.monthly import (
     bendt_cdf,
     bendt_gamma,
     bendt_mean,
