@@ -64,8 +64,14 @@ def load_weather(sc: Scenario, tz=None) -> weather_io.Weather:
     tz = tz or standard_offset(site_timezone(sc))
     w = sc.weather
     if w.source == "monthly":
-        return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
-                               longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
+        try:
+            return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
+                                   longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
+        except ValueError as exc:  # the generator's physics limits (ranges are the schema's): bad input here
+            where, _, message = str(exc).partition(": ")
+            raise InputError(message or where, where=where if message else "weather",
+                             hint="give the monthly mean of DAILY irradiation on a horizontal plane in "
+                                  "kWh/m2/day, January first") from None
     path = sc.resolve(w.path, "weather.path")
     return weather_io.read_weather_file(path, fmt=w.format, tz=tz, latitude=sc.site.latitude,
                                         longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)

@@ -228,7 +228,7 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         warnings.append(f"column {time_label}: timestamps are irregular (only {interval.regular_share:.0%} of "
                         f"steps equal the {step} s interval they were gridded to)")
     decision = decide_unit(value_column, v[order], interval.median_s, explicit=unit,
-                           suffix=numbers.unit_suffix)
+                           suffix=numbers.unit_suffix, file=file)
     warnings.extend(decision.warnings)
     unit_used = decision.unit
 

@@ -40,11 +40,10 @@ import pandas as pd
 import pvlib
 from scipy import optimize, special
 
-from core.errors import InputError
 from core.model.weather.frame import Weather
-from core.model.weather.place import as_standard_tz
+from core.model.weather.place import _check_lat_lon, as_standard_tz
 from core.model.weather.sun import clearsky_ghi, erbs_split, sun_at_midpoints
-from core.timebase import check_site, nominal_index
+from core.timebase import nominal_index
 
 #: Bendt et al. (1981) lower limit of daily clearness (from memory).
 KT_MIN = 0.05
@@ -229,12 +228,13 @@ def monthly_weather(ghi_kwh_m2_day: Sequence[float], temp_air_c: Sequence[float]
     seed : random-number seed; the same seed gives the same year.
     step_s : time step of the result, s (a divisor of one hour).
     """
-    ghi_target = _twelve(ghi_kwh_m2_day, "weather.ghi_kwh_m2_day", 0.0, 15.0, "kWh/m2/day")
-    temp_target = _twelve(temp_air_c, "weather.temp_air_c", -60.0, 50.0, "C")
-    check_site(latitude, longitude, altitude_m)
+    ghi_target = _twelve(ghi_kwh_m2_day, "weather.ghi_kwh_m2_day")
+    if (ghi_target < 0).any():
+        raise ValueError(f"weather.ghi_kwh_m2_day[{int(np.argmax(ghi_target < 0))}]: irradiation cannot be negative")
+    temp_target = _twelve(temp_air_c, "weather.temp_air_c")
+    _check_lat_lon(latitude, longitude)
     if step_s <= 0 or 3600 % step_s:
-        raise InputError(f"time step of {step_s} s is not a whole fraction of an hour", where="step",
-                         hint="use 60, 300, 600, 900, 1800 or 3600 s")
+        raise ValueError(f"time step of {step_s} s is not a whole fraction of an hour")
     std_tz = as_standard_tz(tz)
     index = nominal_index(step_s, std_tz)
     step_h = step_s / 3600.0
@@ -254,11 +254,9 @@ def monthly_weather(ghi_kwh_m2_day: Sequence[float], temp_air_c: Sequence[float]
         kt = target_wh_day[m] / h0_month[m] if h0_month[m] > 0 else np.inf
         if kt > KT_MEAN_LIMIT:
             top = KT_MEAN_LIMIT * h0_month[m] / 1000.0
-            raise InputError(f"{ghi_target[m]:g} kWh/m2/day is more than the sky can deliver here "
-                             f"(mean clearness {kt:.2f} > {KT_MEAN_LIMIT}; at most about {top:.2f} kWh/m2/day)",
-                             where=f"weather.ghi_kwh_m2_day[{m}]",
-                             hint="give the monthly mean of DAILY irradiation on a horizontal plane in kWh/m2/day, "
-                                  "January first")
+            raise ValueError(f"weather.ghi_kwh_m2_day[{m}]: {ghi_target[m]:g} kWh/m2/day is more than the sky can "
+                             f"deliver here (mean clearness {kt:.2f} > {KT_MEAN_LIMIT}; at most about {top:.2f} "
+                             "kWh/m2/day)")
         kt_month[m] = kt
 
     # --- daily clearness: Bendt distribution with persistence, rescaled to the monthly targets
@@ -404,28 +402,15 @@ def _mean_preserving_daily(monthly: np.ndarray, day_month: np.ndarray) -> np.nda
     return daily
 
 
-def _twelve(values, key: str, low: float, high: float, unit: str) -> np.ndarray:
+def _twelve(values, key: str) -> np.ndarray:
+    """Twelve finite numbers, January first. Ranges are the scenario schema's job (checked where input enters);
+    a malformed argument here is a programming error and raises ValueError, as pvlib's functions do."""
     try:
-        items = list(values)
-    except TypeError:
-        raise InputError(f"expected a list of 12 numbers, got {values!r}", where=key,
-                         hint="one value per month, January first") from None
-    if len(items) != 12:
-        raise InputError(f"has {len(items)} values, expected 12", where=key, hint="one value per month, January first")
-    out = np.zeros(12)
-    for i, item in enumerate(items):
-        if isinstance(item, bool):
-            item = None
-        try:
-            number = float(item)
-        except (TypeError, ValueError):
-            raise InputError(f"{item!r} is not a number", where=f"{key}[{i}]",
-                             hint=f"give a number in {unit}") from None
-        if not np.isfinite(number):
-            raise InputError(f"{number!r} is not a finite number", where=f"{key}[{i}]",
-                             hint=f"give a number in {unit}")
-        if not low <= number <= high:
-            raise InputError(f"{number:g} {unit} is outside {low:g}..{high:g} {unit}", where=f"{key}[{i}]",
-                             hint="check the value and its units")
-        out[i] = number
+        out = np.asarray([float(v) if not isinstance(v, bool) else np.nan for v in values], dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"{key}: expected 12 numbers, got {values!r}") from None
+    if out.shape != (12,):
+        raise ValueError(f"{key}: has {out.size} values, expected 12 (one per month, January first)")
+    if not np.isfinite(out).all():
+        raise ValueError(f"{key}[{int(np.flatnonzero(~np.isfinite(out))[0])}]: not a finite number")
     return out

@@ -6,7 +6,6 @@ import datetime as dt
 
 import numpy as np
 
-from core.errors import InputError
 from core.timebase import NOMINAL_YEAR, standard_offset
 
 # ----------------------------------------------------------------------------------------------------------------
@@ -50,8 +49,7 @@ def as_standard_tz(tz: dt.tzinfo | str | None) -> dt.timezone | None:
     moment = dt.datetime(NOMINAL_YEAR, 1, 15, 12)
     offset = tz.utcoffset(moment)
     if offset is None:
-        raise InputError("time zone has no UTC offset", where="site.timezone",
-                         hint="use an IANA name such as 'America/New_York'")
+        raise ValueError(f"time zone {tz!r} has no UTC offset; use an IANA name such as 'America/New_York'")
     return dt.timezone(offset - (tz.dst(moment) or dt.timedelta(0)))
 
 
@@ -60,10 +58,8 @@ def _check_lat_lon(latitude: float, longitude: float) -> None:
         try:
             number = float(value)
         except (TypeError, ValueError):
-            raise InputError(f"{value!r} is not a number", where=key,
-                             hint=f"give degrees between -{limit:g} and {limit:g}") from None
+            raise ValueError(f"{key}: {value!r} is not a number of degrees") from None
         if not np.isfinite(number) or abs(number) > limit:
-            raise InputError(f"{number!r} is outside -{limit:g}..{limit:g} degrees", where=key,
-                             hint="north and east are positive")
+            raise ValueError(f"{key}: {number!r} is outside -{limit:g}..{limit:g} degrees")
 
 

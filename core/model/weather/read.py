@@ -51,10 +51,16 @@ def read_weather_file(path: str | pathlib.Path, *, fmt: str | None = None, tz: d
     if fmt not in _FORMATS:
         raise InputError(f"unknown weather format {fmt!r}", file=str(path), where="weather.format",
                          hint=f"use one of {', '.join(_FORMATS)}")
-    std_tz = as_standard_tz(tz)
-    if fmt == "csv":
-        if latitude is not None or longitude is not None:
+    try:  # the reader is where input enters: the helpers' ValueErrors become messages naming the key
+        std_tz = as_standard_tz(tz)
+        if fmt == "csv" and (latitude is not None or longitude is not None):
             _check_lat_lon(latitude if latitude is not None else 0.0, longitude if longitude is not None else 0.0)
+    except ValueError as exc:
+        where, _, message = str(exc).partition(": ")
+        raise InputError(message or where, file=str(path), where=where if message else "site.timezone",
+                         hint="north and east are positive; time zones are IANA names such as "
+                              "'America/New_York'") from None
+    if fmt == "csv":
         return read_csv(path, std_tz, latitude, longitude, altitude_m)
     reader = {"epw": read_epw, "tmy3": read_tmy3, "tmy2": read_tmy2}[fmt]
     return reader(path, std_tz, altitude_m)

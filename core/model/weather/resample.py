@@ -8,7 +8,6 @@ import numpy as np
 import pandas as pd
 import pvlib
 
-from core.errors import InputError
 from core.model.weather.frame import WEATHER_COLUMNS, Weather
 from core.model.weather.sun import clearsky_ghi, sun_at_midpoints
 from core.timebase import nominal_index
@@ -34,21 +33,18 @@ def interpolate_weather(weather: Weather, step_s: int, *, latitude: float, longi
     if step_s == old:
         return weather
     if step_s <= 0 or 86400 % step_s:
-        raise InputError(f"time step of {step_s} s does not divide a day", where="step",
-                         hint="use a step such as 60, 300, 900, 1800 or 3600 s")
+        raise ValueError(f"time step of {step_s} s does not divide a day")
     tz = weather.data.index.tz
     data = weather.data
     if step_s > old:
         if step_s % old:
-            raise InputError(f"cannot resample a {old} s series to {step_s} s", where="step",
-                             hint="use a multiple of the weather's own step")
+            raise ValueError(f"cannot resample a {old} s series to {step_s} s (not a multiple of it)")
         k = step_s // old
         means = data.to_numpy().reshape(-1, k, data.shape[1]).mean(axis=1)
         frame = pd.DataFrame(means, columns=data.columns, index=nominal_index(step_s, tz))
         return replace(weather, data=frame, step_s=step_s, source=f"{weather.source}, averaged to {step_s} s")
     if old % step_s:
-        raise InputError(f"cannot resample a {old} s series to {step_s} s", where="step",
-                         hint="use a step that divides the weather's own step")
+        raise ValueError(f"cannot resample a {old} s series to {step_s} s (not a divisor of it)")
     k = old // step_s
     n = len(data)
     fine_index = nominal_index(step_s, tz)
