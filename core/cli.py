@@ -65,6 +65,21 @@ def format_year_table(result: dict) -> str:
     return "\n".join(lines)
 
 
+def report_warnings(warnings) -> list[str]:
+    """Print every importer warning on stderr, one line each, and return them for the JSON output."""
+    found = [str(w) for w in warnings]
+    for text in found:
+        print(_one_line(f"warning: {text}"), file=sys.stderr)
+    return found
+
+
+def _site_warnings(comparison) -> tuple[str, ...]:
+    """The site's importer warnings of a comparison (every option shares one site)."""
+    for option in comparison.options.values():
+        return option.simulation.site.warnings
+    return ()
+
+
 # ------------------------------------------------------------------------------------------- subcommands
 def _cmd_simulate(args) -> int:
     from core.scenario import load_scenario
@@ -82,8 +97,9 @@ def _cmd_simulate(args) -> int:
         from core.present.report import write_steps_csv
 
         write_steps_csv(sim, args.steps_csv, inputs=[Path(args.scenario)])
+    warnings = report_warnings(sim.site.warnings)
     if args.json:
-        print(json.dumps({"name": sc.name, **out}, indent=2))
+        print(json.dumps({"name": sc.name, **out, "warnings": warnings}, indent=2))
     else:
         print(f"{sc.name}\n")
         print(format_year_table(out))
@@ -94,6 +110,7 @@ def _cmd_inspect_load(args) -> int:
     from core.model.loads import inspect_load_summary
 
     summary = inspect_load_summary(args.file, timezone=args.timezone, unit=args.unit, column=args.column)
+    report_warnings(summary.get("warnings") or ())
     if args.json:
         print(json.dumps(summary, indent=2, default=str))
     else:
@@ -181,7 +198,9 @@ def _cmd_compare(args) -> int:
                               "and/or a controller")
     layout = _layout_from_args(sc, args)
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
-    out = compare(sc, layout, progress=progress).to_dict()
+    comparison = compare(sc, layout, progress=progress)
+    out = comparison.to_dict()
+    out["warnings"] = report_warnings(_site_warnings(comparison))
     if args.json:
         print(json.dumps(out, indent=2))
     else:
@@ -201,6 +220,7 @@ def _cmd_check(args) -> int:
     if sc.expansion is not None:
         comparison = compare(sc, progress=progress)
         sims = {k: v.simulation for k, v in comparison.options.items()}
+        report_warnings(_site_warnings(comparison))
     checks = [c for group in check_options(sc, sims=sims).values() for c in group]
     if args.json:
         print(json.dumps([c.to_dict() for c in checks], indent=2))

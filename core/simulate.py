@@ -10,6 +10,7 @@ reuses it: :func:`prepare_site` (weather, sun, loads, outages) is computed once 
 
 from __future__ import annotations
 
+import pathlib
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -40,6 +41,8 @@ class SiteData:
     load_grid_only_w: np.ndarray
     grid_up: np.ndarray
     load_notes: dict = field(default_factory=dict)
+    #: What the importers noticed and accepted (weather, load files), in words; shown on the page and on stderr.
+    warnings: tuple[str, ...] = ()
 
     @property
     def dt_h(self) -> float:
@@ -74,7 +77,8 @@ def load_weather(sc: Scenario, tz=None) -> weather_io.Weather:
                                   "kWh/m2/day, January first") from None
     path = sc.resolve(w.path, "weather.path")
     return weather_io.read_weather_file(path, fmt=w.format, tz=tz, latitude=sc.site.latitude,
-                                        longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
+                                        longitude=sc.site.longitude, altitude_m=sc.site.altitude_m,
+                                        max_distance_km=w.max_distance_km)
 
 
 #: Simulation steps the engine offers (s); a finer source is simulated at the nearest of these not finer than it.
@@ -151,7 +155,18 @@ def prepare_site(sc: Scenario) -> SiteData:
     return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
                     longitude=sc.site.longitude, weather=weather, geometry=geometry,
                     load_backed_w=load_b, load_grid_only_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
-                    load_notes={"backed_up": notes_b, "grid_only": notes_g})
+                    load_notes={"backed_up": notes_b, "grid_only": notes_g},
+                    warnings=_importer_warnings(sc, weather, measured_b, measured_g))
+
+
+def _importer_warnings(sc: Scenario, weather, *measured) -> tuple[str, ...]:
+    """Every importer warning of a site, each naming its file."""
+    found = list(weather.warnings)
+    for key, load in zip(("path", "grid_only_path"), measured, strict=True):
+        if load is not None:
+            name = pathlib.Path(getattr(sc.load, key)).name
+            found += [f"load file {name}: {text}" for text in load.quality.warnings]
+    return tuple(dict.fromkeys(found))
 
 
 class OrientationCache:

@@ -163,6 +163,7 @@ def _assemble(path, kind, data, columns, starts, lines, meta, tz, altitude_m, *,
     altitude = float(meta.get("altitude", altitude_m if altitude_m is not None else 0.0))
     return Weather(data=frame[list(WEATHER_COLUMNS)].astype(float), step_s=step_s,
                    source=f"{kind} file {path.name}", latitude=float(meta["latitude"]),
-                   longitude=float(meta["longitude"]), altitude_m=altitude)
+                   longitude=float(meta["longitude"]), altitude_m=altitude,
+                   file_location=(float(meta["latitude"]), float(meta["longitude"])))
 
 

@@ -42,6 +42,10 @@ class Weather:
     latitude: float | None = None
     longitude: float | None = None
     altitude_m: float | None = None
+    #: (latitude, longitude) the file states for itself (TMY/EPW headers, CSV comment lines), else None.
+    file_location: tuple[float, float] | None = None
+    #: What the reader noticed but accepted, in words (shown on the page and on the command line's stderr).
+    warnings: tuple[str, ...] = ()
 
 
 def _fixed_tz(hours: float) -> dt.timezone:

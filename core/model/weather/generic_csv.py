@@ -108,7 +108,9 @@ def read_csv(path: pathlib.Path, tz: dt.timezone | None, latitude: float | None,
     source = f"CSV file {path.name}" + (f" ({'; '.join(notes)})" if notes else "")
     return Weather(data=frame[list(WEATHER_COLUMNS)].astype(float), step_s=step_s, source=source,
                    latitude=None if latitude is None else float(latitude),
-                   longitude=None if longitude is None else float(longitude), altitude_m=altitude)
+                   longitude=None if longitude is None else float(longitude), altitude_m=altitude,
+                   file_location=((meta["latitude"], meta["longitude"])
+                                  if "latitude" in meta and "longitude" in meta else None))
 
 
 
