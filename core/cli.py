@@ -58,6 +58,7 @@ def format_year_table(result: dict) -> str:
     r, h = result["ratios"], result["hours"]
     lines += ["", f"Self-consumption {pct(r['self_consumption'])}   Self-sufficiency {pct(r['self_sufficiency'])}"
               f"   PV utilisation {pct(r['pv_utilisation'])}",
+              f"Load served {pct(r.get('load_served_share'))}   unserved {pct(r.get('load_unserved_share'))}",
               f"Hours: export {h['export']:.0f} h (uncontrolled {h['export_uncontrolled']:.0f} h), "
               f"outage {h['outage']:.0f} h, unserved {h['unserved']:.0f} h",
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
