@@ -101,18 +101,49 @@ def _check_range(name: str, values: np.ndarray, path, label: str, label_at) -> N
 
 
 def _align_to_nominal(starts: pd.DatetimeIndex, tz: dt.timezone, step_s: int, path, label_at):
+    """Place interval starts on the nominal year in ``tz`` (see :func:`_place`): converted to ``tz`` first, as a
+    continuous record needs; where that leaves hours missing only because the move crossed 29 February of a leap
+    source year (a typical year stitched from several years), by the file's own clock moved around the year."""
+    try:
+        return _place(starts, tz, step_s, path, label_at, wrap=False)
+    except _Missing as missing:
+        if not _offset_shift_s(starts, tz):
+            raise missing.error from None
+        try:
+            return _place(starts, tz, step_s, path, label_at, wrap=True)
+        except _Missing:
+            raise missing.error from None
+
+
+class _Missing(Exception):
+    def __init__(self, error: InputError) -> None:
+        super().__init__(str(error))
+        self.error = error
+
+
+def _place(starts: pd.DatetimeIndex, tz: dt.timezone, step_s: int, path, label_at, *, wrap: bool):
     """Place interval starts on the nominal year in ``tz``.
 
     Returns the nominal index (complete, regular) and the positions of the source rows in that order. Rows on
-    29 February are dropped. Raises if a time is repeated, off the step, or missing.
+    29 February *of the file's own clock* are dropped. Raises if a time is repeated, off the step, or missing.
+
+    When the file keeps one UTC offset (TMY, EPW, most CSV), rows are placed by the file's own month, day and time
+    and then moved by the difference of offsets, wrapping around the year: a site an hour off the file's zone
+    gets every hour of a complete year (converting first would land an hour of a leap source year on
+    29 February and drop it).
     """
-    local = starts.tz_convert(tz).tz_localize(None)
+    shift_s = _offset_shift_s(starts, tz) if wrap else None
+    local = starts.tz_localize(None) if shift_s is not None else starts.tz_convert(tz).tz_localize(None)
     keep = ~((local.month == 2) & (local.day == 29))
     positions = np.flatnonzero(keep)
     local = local[keep]
     nominal = pd.to_datetime(pd.DataFrame({
         "year": NOMINAL_YEAR, "month": local.month, "day": local.day, "hour": local.hour,
         "minute": local.minute, "second": local.second}))
+    if shift_s:
+        origin = pd.Timestamp(NOMINAL_YEAR, 1, 1)
+        seconds = (pd.DatetimeIndex(nominal) - origin).total_seconds().to_numpy()
+        nominal = origin + pd.to_timedelta((seconds + shift_s) % (365 * 86400), unit="s")
     nominal = pd.DatetimeIndex(nominal).tz_localize(tz)
     try:
         expected = nominal_index(step_s, tz)
@@ -133,10 +164,25 @@ def _align_to_nominal(starts: pd.DatetimeIndex, tz: dt.timezone, step_s: int, pa
     seen[where] = True
     if not seen.all():
         missing = expected[~seen]
-        raise InputError(f"{len(missing)} interval(s) of the year are missing, the first starting "
-                         f"{missing[0]:%m-%d %H:%M} (nominal year, standard time)", file=str(path),
-                         where="timestamps", hint="the file must cover a full year with no gaps")
+        raise _Missing(InputError(f"{len(missing)} interval(s) of the year are missing, the first starting "
+                                  f"{missing[0]:%m-%d %H:%M} (nominal year, standard time)", file=str(path),
+                                  where="timestamps", hint="the file must cover a full year with no gaps"))
     order = np.empty(len(expected), dtype=int)
     order[where] = positions
     return expected, order
 
+
+
+def _offset_shift_s(starts: pd.DatetimeIndex, tz: dt.timezone) -> float | None:
+    """Seconds from the file's one UTC offset to ``tz``'s, or None when the file's offsets vary."""
+    if starts.tz is None or len(starts) == 0:
+        return None
+    wall = starts.tz_localize(None)
+    utc = starts.tz_convert("UTC").tz_localize(None)
+    offsets = np.unique((wall - utc).total_seconds().to_numpy())
+    if offsets.size != 1:
+        return None
+    target = tz.utcoffset(None).total_seconds() if isinstance(tz, dt.timezone) else None
+    if target is None:
+        return None
+    return float(target - offsets[0])
