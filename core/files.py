@@ -5,11 +5,18 @@ from __future__ import annotations
 
 import os
 import re
+import stat
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
 from core.errors import InputError
+
+#: Largest file of each kind read (bytes), stated once here: the messages, the docs and the page quote these.
+#: A scenario is a page of text; an outage list a few thousand lines; a weather year at one minute is ~35 MB.
+MAX_SCENARIO_BYTES = 1 << 20
+MAX_OUTAGES_BYTES = 8 << 20
+MAX_WEATHER_BYTES = 128 << 20
 
 
 def write_atomic(path: str | os.PathLike, data: bytes) -> Path:
@@ -46,6 +53,54 @@ def _umask() -> int:
     except (OSError, ValueError):
         pass
     return 0o022
+
+
+# ----------------------------------------------------------------------------------------------------------------
+# a user's file: a regular file under a stated size, read without changing it
+
+
+def check_input_file(path: str | os.PathLike, *, kind: str, max_bytes: int, where: str | None = None,
+                     size_hint: str = "check that it is the right file") -> Path:
+    """``path`` as a Path when it names a regular file of at most ``max_bytes``; else an InputError naming it.
+
+    Checked before anything is opened, so that a device (``/dev/zero``), a pipe (which would block) or a huge file
+    is refused with a message instead of filling memory or hanging."""
+    path = Path(path)
+    try:
+        info = path.stat()
+    except FileNotFoundError:
+        raise InputError(f"{kind} not found", file=str(path)[:300], where=where,
+                         hint="check the path; relative paths are taken from the scenario file's folder") from None
+    except (OSError, ValueError) as exc:  # a name too long, a NUL character, no permission on a folder, a loop
+        raise InputError(f"{kind} cannot be opened ({getattr(exc, 'strerror', None) or exc})", file=str(path)[:300],
+                         where=where, hint="check the path") from None
+    if not stat.S_ISREG(info.st_mode):
+        raise InputError(f"{kind} is not a file but a folder, device or pipe", file=str(path), where=where,
+                         hint="give the path of an ordinary file")
+    if info.st_size > max_bytes:
+        raise InputError(f"{kind} is {_size_text(info.st_size)}, more than the {_size_text(max_bytes)} this tool "
+                         "reads", file=str(path), where=where, hint=size_hint)
+    return path
+
+
+def read_input_bytes(path: str | os.PathLike, *, kind: str, max_bytes: int, where: str | None = None) -> bytes:
+    """The bytes of a checked input file (:func:`check_input_file`), never more than ``max_bytes`` of them (a file
+    that grows while read, or a system file that reports no size, is refused too)."""
+    path = check_input_file(path, kind=kind, max_bytes=max_bytes, where=where)
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read(max_bytes + 1)
+    except OSError as exc:
+        raise InputError(f"{kind} cannot be read ({exc.strerror})", file=str(path), where=where,
+                         hint="check the file's permissions") from None
+    if len(data) > max_bytes:
+        raise InputError(f"{kind} is more than the {_size_text(max_bytes)} this tool reads", file=str(path),
+                         where=where, hint="check that it is the right file")
+    return data
+
+
+def _size_text(n: int) -> str:
+    return f"{n / 2**20:.0f} MiB" if n >= 2**20 else f"{n / 2**10:.0f} KiB" if n >= 2**10 else f"{n} bytes"
 
 
 # ----------------------------------------------------------------------------------------------------------------

@@ -17,7 +17,7 @@ from pathlib import Path
 
 from core.analyses.options import OPTION_LABELS, applicable_options, layout_of
 from core.errors import InputError
-from core.files import write_atomic
+from core.files import MAX_SCENARIO_BYTES, read_input_bytes, write_atomic
 from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
 
 #: The couplings the explorer offers for the new panels (the options other than the existing system).
@@ -229,7 +229,7 @@ def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_
 def read_upload_scenario(folder: Path, name: str) -> tuple[Scenario, str | None]:
     """Parse an uploaded scenario from the session folder: paths resolve there and may not leave it."""
     path = Path(folder) / safe_upload_name(name)
-    raw = path.read_bytes()
+    raw = read_input_bytes(path, kind="scenario file", max_bytes=MAX_SCENARIO_BYTES)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -245,7 +245,7 @@ def sample_sites(root: Path) -> dict[str, Path]:
     for path in sorted(Path(root).glob("*/scenario.toml")):
         try:
             name = str(tomllib.loads(path.read_text("utf-8")).get("name") or path.parent.name)
-        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError, RecursionError):
             name = path.parent.name
         if name in out:
             name = f"{name} ({path.parent.name})"

@@ -5,35 +5,20 @@ from __future__ import annotations
 from pathlib import Path
 
 from core.errors import InputError
-from core.files import DecodedText, decode_text
+from core.files import DecodedText, check_input_file, decode_text, read_input_bytes
 
 #: Largest file read (128 MiB). Reading takes about 0.5 kB of memory per row, so this caps the reader near 3 GB:
 #: a year of 1-minute readings (~15 MB) or of 10-second ones (~80 MB) fits, as do a few weeks of 1-second
 #: readings; a year of 1-second readings (~800 MB, 31.5 million rows) does not and must be averaged first.
 MAX_FILE_BYTES = 128 << 20
 
+
 def read_text(path: Path) -> DecodedText:
     """Read ``path`` without modifying it and decode it; raise InputError for missing, empty or binary files."""
-    try:
-        if not path.exists():
-            raise InputError("file not found", file=str(path), hint="check the path (relative paths are "
-                             "resolved from the scenario file's folder)")
-        if not path.is_file():
-            raise InputError("is not a file", file=str(path), hint="give the path of a CSV file")
-        size = path.stat().st_size
-    except (OSError, ValueError) as exc:  # a name too long, a NUL character, no permission on a folder
-        raise InputError(f"cannot be opened ({getattr(exc, 'strerror', None) or exc})", file=str(path)[:300],
-                         hint="check the path") from None
-    if size > MAX_FILE_BYTES:
-        raise InputError(f"file is {size / 2**20:.0f} MiB, more than the {MAX_FILE_BYTES >> 20} MiB this tool reads "
-                         "(a year of 1-second readings is about 800 MB)", file=str(path),
-                         hint="average the readings to 1 min (a year is then about 15 MB) or 10 s, or export a "
-                              "shorter period")
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot be read ({exc.strerror})", file=str(path),
-                         hint="check the file's permissions") from exc
+    path = check_input_file(path, kind="load file", max_bytes=MAX_FILE_BYTES,
+                            size_hint="a year of 1-second readings is about 800 MB: average the readings to 1 min "
+                                      "(a year is then about 15 MB) or 10 s, or export a shorter period")
+    raw = read_input_bytes(path, kind="load file", max_bytes=MAX_FILE_BYTES)
     decoded = decode_bytes(raw, str(path))
     if not decoded.text.strip():
         raise InputError("file is empty", file=str(path), where="row 1",

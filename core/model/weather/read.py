@@ -7,6 +7,7 @@ import pathlib
 from dataclasses import replace
 
 from core.errors import InputError
+from core.files import MAX_WEATHER_BYTES, check_input_file
 from core.model.weather.fit import distance_km, sun_fit
 from core.model.weather.fixed import read_epw, read_tmy2, read_tmy3
 from core.model.weather.frame import Weather
@@ -42,17 +43,7 @@ def read_weather_file(path: str | pathlib.Path, *, fmt: str | None = None, tz: d
     ------
     InputError naming the file and the line/column for every problem.
     """
-    path = pathlib.Path(path)
-    try:
-        found, is_file = path.exists(), path.is_file()
-    except (OSError, ValueError) as exc:  # a name too long, a NUL character, no permission on a folder
-        raise InputError(f"weather file cannot be opened ({getattr(exc, 'strerror', None) or exc})",
-                         file=str(path)[:300], hint="check the path") from None
-    if not found:
-        raise InputError("weather file not found", file=str(path),
-                         hint="check the path; relative paths are taken from the scenario file's folder")
-    if not is_file:
-        raise InputError("weather path is not a file", file=str(path), hint="point to an EPW, TMY3, TMY2 or CSV file")
+    path = check_input_file(path, kind="weather file", max_bytes=MAX_WEATHER_BYTES)
     if fmt is None:
         fmt = _detect_format(path)
     fmt = str(fmt).lower()
