@@ -23,6 +23,9 @@ SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "|": "vertical b
 #: Lines looked at to find the separator, the header and the first data row.
 SNIFF_LINES = 400
 LINE_COLUMN = "__line__"
+#: Widest table read. A load export has a timestamp and a few readings; thousands of columns are not a load file,
+#: and scanning them would take minutes, so they are refused before any field is looked at.
+MAX_COLUMNS = 256
 
 # A field that looks like a date (2024-03-01, 01.03.2024, 3/1/24), a bare ISO date-time, or a Unix time.
 _DATE_LIKE = re.compile(r"^\s*\"?(\d{4}[-./]\d{1,2}[-./]\d{1,2}|\d{1,2}[-./]\d{1,2}[-./]\d{2,4}|\d{8}T\d{4}"
@@ -103,7 +106,13 @@ def _choose_separator(lines: list[str], file: str) -> tuple[str, int]:
     """The separator that splits most lines into the same number (≥ 2) of fields that look like data."""
     best: tuple[float, str, int] | None = None
     body = lines[len(lines) // 3:] if len(lines) >= 6 else lines
+    too_wide: tuple[int, str] | None = None
     for sep in SEPARATORS:
+        # A cheap count first: a separator that would give more than MAX_COLUMNS fields is not split at all.
+        counts = Counter(line.count(sep) + 1 for line in body)
+        if counts.most_common(1)[0][0] > MAX_COLUMNS:
+            too_wide = max(too_wide or (0, sep), (counts.most_common(1)[0][0], sep))
+            continue
         split = [_split(line, sep) for line in body]
         width, n_same = Counter(len(f) for f in split).most_common(1)[0]
         if width < 2:
@@ -114,6 +123,10 @@ def _choose_separator(lines: list[str], file: str) -> tuple[str, int]:
         score = n_same * (0.5 + looks / max(len(fields), 1))
         if best is None or score > best[0]:
             best = (score, sep, width)
+    if best is None and too_wide is not None:
+        raise InputError(f"has {too_wide[0]:,} columns ({SEPARATOR_NAMES[too_wide[1]]} separated); this tool reads "
+                         f"tables of at most {MAX_COLUMNS} columns", file=file, where="row 1",
+                         hint="export only the timestamp and load columns")
     if best is None:
         raise InputError("no columns found: no line splits into fields at a comma, semicolon, tab or "
                          "vertical bar", file=file, where="row 1",
