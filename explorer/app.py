@@ -10,10 +10,7 @@ from __future__ import annotations
 
 import math
 import os
-import shutil
 import sys
-import tempfile
-import weakref
 from pathlib import Path
 
 import streamlit as st
@@ -27,8 +24,8 @@ from core.analyses.options import OPTION_LABELS, with_option  # noqa: E402
 from core.present.figures import headline_figures, secondary_figures  # noqa: E402
 from core.present.report_html import report_html  # noqa: E402
 from core.present.safety import SAFETY_CAUTIONS  # noqa: E402
-from explorer import caching, state  # noqa: E402
-from explorer.guard import section  # noqa: E402
+from explorer import caching, state, uploads  # noqa: E402
+from explorer.guard import harden, section  # noqa: E402
 from explorer.views import (  # noqa: E402
     baseload,
     checks,
@@ -50,18 +47,8 @@ TABS = ("Energy by month", "Typical day", "Output vs base load", "Options", "Swe
         "Data files", "Save and report")
 
 
-class SessionFolder:
-    """A temporary folder for one browser session's uploads, removed when the session ends."""
-
-    def __init__(self) -> None:
-        self.path = Path(tempfile.mkdtemp(prefix="secondroof-upload-"))
-        self._cleanup = weakref.finalize(self, shutil.rmtree, str(self.path), True)
-
-
 def upload_folder() -> Path:
-    if "upload_folder" not in st.session_state:
-        st.session_state["upload_folder"] = SessionFolder()
-    return st.session_state["upload_folder"].path
+    return uploads.session_folder(st.session_state)
 
 
 def settings_list(sc, c: state.Controls) -> list[tuple[str, str]]:
@@ -89,6 +76,7 @@ def safety() -> None:
 
 
 def main() -> None:
+    harden()
     st.set_page_config(page_title="secondroof · what would more panels add?", layout="wide",
                        initial_sidebar_state="expanded")
     # less empty space above the title than Streamlit's default

@@ -19,6 +19,7 @@ from core.analyses.options import OPTION_LABELS, applicable_options, layout_of
 from core.errors import InputError
 from core.files import MAX_SCENARIO_BYTES, read_input_bytes, write_atomic
 from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
+from explorer.uploads import MAX_UPLOAD_BYTES  # noqa: F401 - the one upload limit, used here
 
 #: The couplings the explorer offers for the new panels (the options other than the existing system).
 COUPLINGS = ("ac_backed_up", "ac_grid", "dc")
@@ -29,8 +30,6 @@ OUTAGE_LABELS = {"none": "No outages", "scenario": "As in the scenario file", "r
 DEFAULT_OUTAGES_PER_YEAR = 3.0
 DEFAULT_OUTAGE_HOURS = 4.0
 
-#: Largest upload the page accepts (bytes): a year of one-minute readings in CSV is about 20 MB.
-MAX_UPLOAD_BYTES = 40 * 1024 * 1024
 
 #: The comment line that carries the chosen coupling in a downloaded scenario (the schema has no key for it).
 
@@ -219,8 +218,8 @@ def content_folder(folder: Path, *contents: bytes) -> Path:
 def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_UPLOAD_BYTES) -> Path:
     """Store an uploaded file in the session's own folder (never next to the user's files)."""
     if len(data) > limit_bytes:
-        raise InputError(f"the file is {len(data) / 1e6:.1f} MB, more than the {limit_bytes / 1e6:.0f} MB this page "
-                         "accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
+        raise InputError(f"the file is {len(data) / 2**20:.1f} MB, more than the {limit_bytes / 2**20:.0f} MB this "
+                         "page accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
     if not data:
         raise InputError("the file is empty", file=name)
     return write_atomic(Path(folder) / safe_upload_name(name), data)

@@ -11,7 +11,7 @@ import streamlit as st
 from core.scenario import Scenario
 from core.simulate import site_timezone
 from core.timebase import standard_offset
-from explorer import state
+from explorer import state, uploads
 from explorer.guard import section
 
 LOAD_TYPES = ["csv", "txt", "tsv"]
@@ -96,7 +96,7 @@ def render_uploads(sc: Scenario, folder: Path) -> state.DataOverrides:
     with left:
         st.markdown("#### Measured load")
         upload = st.file_uploader("Load file (CSV export of a meter or logger)", type=LOAD_TYPES, key="load_file",
-                                  help=f"Up to {state.MAX_UPLOAD_BYTES // 1_000_000} MB. A timestamp column and "
+                                  help=f"Up to {uploads.LIMIT_TEXT}. A timestamp column and "
                                   "a power or energy column; the importer finds both and says what it decided.")
         channel = st.radio("The file holds", list(state.LOAD_CHANNELS), format_func=state.LOAD_CHANNELS.get,
                            key="load_channel", horizontal=True)
