@@ -6,8 +6,12 @@ Exit codes: 0 ok, 2 bad input (one line on stderr naming the place), 1 internal 
 from __future__ import annotations
 
 import argparse
+import errno
 import json
+import os
+import signal
 import sys
+import threading
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
@@ -86,6 +90,9 @@ def _cmd_simulate(args) -> int:
     from core.scenario import load_scenario
     from core.simulate import simulate
 
+    if args.steps_csv is not None and not args.steps_csv.strip():
+        raise InputError("--steps-csv needs a file name", where="command line",
+                         hint="e.g. --steps-csv steps.csv, or leave the option out")
     sc = load_scenario(args.scenario)
     if args.steps_csv:  # refuse a bad output name before the year is simulated
         from core.present.report import check_output_path
@@ -366,11 +373,43 @@ def _one_line(text: str) -> str:
     return " ".join(str(text).split())
 
 
+class Terminated(BaseException):
+    """SIGTERM or SIGHUP arrived: unwind like Ctrl-C, so that a partly written output is removed."""
+
+
+def _terminate(signum, _frame):
+    raise Terminated(signum)
+
+
+def _catch_termination() -> dict:
+    """Turn SIGTERM and SIGHUP into :class:`Terminated` (main thread only); returns the handlers to restore."""
+    if threading.current_thread() is not threading.main_thread():
+        return {}
+    previous = {}
+    for name in ("SIGTERM", "SIGHUP"):
+        number = getattr(signal, name, None)
+        if number is not None:
+            previous[number] = signal.signal(number, _terminate)
+    return previous
+
+
+#: Errors of the user's own output device (a full disk, a quota, a dead terminal): bad input, not our fault.
+_DEVICE_ERRNOS = {errno.ENOSPC, errno.EDQUOT, errno.EIO, errno.EROFS, errno.EFBIG}
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     args = None
+    previous = _catch_termination()
     try:
+        if sys.stdout is None:  # started with stdout closed: nothing could be shown, so nothing is done
+            if sys.stderr is not None:
+                print("error: standard output is closed; nothing can be printed (run the command with an output "
+                      "or redirect it to a file)", file=sys.stderr)
+            return EXIT_BAD_INPUT
         args = build_parser().parse_args(argv)
-        return args.func(args)
+        code = args.func(args)
+        sys.stdout.flush()  # a full device is found here, not at exit where it would go unreported
+        return code
     except InputError as exc:
         scenario = getattr(args, "scenario", None)
         if exc.file is None and scenario and exc.where and exc.where != "command line":
@@ -378,15 +417,37 @@ def main(argv: Sequence[str] | None = None) -> int:
             exc = InputError(exc.message, file=scenario, where=exc.where, hint=exc.hint)
         print(_one_line(f"error: {exc}"), file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
+    except (KeyboardInterrupt, Terminated):
         print("interrupted", file=sys.stderr)
         return EXIT_INTERNAL
     except BrokenPipeError:
         return EXIT_OK
+    except OSError as exc:
+        if exc.errno not in _DEVICE_ERRNOS:
+            print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
+                            "caused it)"), file=sys.stderr)
+            return EXIT_INTERNAL
+        print(_one_line(f"error: cannot write the output: {exc.strerror or exc} (the output device or disk; free "
+                        "some space or write elsewhere)"), file=sys.stderr)
+        _quiet_stdout()
+        return EXIT_BAD_INPUT
     except Exception as exc:  # an internal error: say so in one line, never a traceback
         print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
                         "caused it)"), file=sys.stderr)
         return EXIT_INTERNAL
+    finally:
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+
+
+def _quiet_stdout() -> None:
+    """After a failed write to stdout, point it at /dev/null so that the interpreter's exit flush cannot fail
+    again (and print its own message)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        pass
 
 
 if __name__ == "__main__":
