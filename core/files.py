@@ -154,7 +154,8 @@ def decode_text(raw: bytes, file: str, *, line_word: str = "row") -> DecodedText
             encoding = "utf-8 with byte-order mark"
         elif raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
             text = text.lstrip("\ufeff")
-    text = text.replace("\r\n", "\n").replace("\r", "\n")
+    if "\r" in text:  # each replacement copies the text: only when there is something to replace
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
     _refuse_binary(text, file, line_word)
     return DecodedText(text=text, encoding=encoding)
 

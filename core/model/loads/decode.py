@@ -18,8 +18,7 @@ def read_text(path: Path) -> DecodedText:
     path = check_input_file(path, kind="load file", max_bytes=MAX_FILE_BYTES,
                             size_hint="a year of 1-second readings is about 800 MB: average the readings to 1 min "
                                       "(a year is then about 15 MB) or 10 s, or export a shorter period")
-    raw = read_input_bytes(path, kind="load file", max_bytes=MAX_FILE_BYTES)
-    decoded = decode_bytes(raw, str(path))
+    decoded = decode_bytes(read_input_bytes(path, kind="load file", max_bytes=MAX_FILE_BYTES), str(path))
     if not decoded.text.strip():
         raise InputError("file is empty", file=str(path), where="row 1",
                          hint="export the load data again; the file should hold a table of times and values")
