@@ -132,6 +132,7 @@ def main() -> None:
             st.markdown(f"**{OPTION_LABELS[c.option]}, {c.count} panel{'s' if c.count != 1 else ''}** "
                         "against the existing system")
             headline.render(main_figures, more)
+            data_files.render_warning_notice(sim.site)
             sims = (sc, option_sc, comparison, sim, baseline, main_figures, more)
 
     if sims is None:

@@ -151,6 +151,14 @@ def _read_weather(path: str, timezone: str, latitude: float, longitude: float, a
                              altitude_m=altitude_m)
 
 
+def render_warning_notice(site) -> None:
+    """One line under the headline when the importers noticed something (each note is in *Data files*)."""
+    found = list(site.warnings)
+    if found:
+        more = f" (and {len(found) - 1} more)" if len(found) > 1 else ""
+        st.warning(f"The data files need a look: {found[0]}{more}. Every note is under *Data files*.")
+
+
 def render_current(sim) -> None:
     """What the running simulation reads: the load records' summaries and the weather's."""
     site = sim.site
@@ -179,4 +187,6 @@ def render_current(sim) -> None:
     with right:
         st.markdown("#### Weather in use")
         _table(_weather_summary(site.weather))
+        for text in site.weather.warnings:
+            st.warning(text)
 

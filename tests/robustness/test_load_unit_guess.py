@@ -65,3 +65,17 @@ def test_importer_warnings_reach_stderr_and_json(tmp_path):
     assert any("gap" in w and "load_backed_up.csv" in w for w in warnings)
     compare = run_cli(["compare", tmp_path / "harbour_view" / "scenario.toml", "--json"])
     assert compare.code == 0 and json.loads(compare.stdout)["warnings"] == warnings
+
+
+def test_importer_warnings_reach_the_page(tmp_path, monkeypatch):
+    from streamlit.testing.v1 import AppTest
+
+    from tests.robustness.common import ROOT
+
+    site = copy_site("harbour_view", tmp_path)
+    monkeypatch.setenv("SECONDROOF_SCENARIO", str(site / "scenario.toml"))
+    at = AppTest.from_file(str(ROOT / "explorer" / "app.py"), default_timeout=240)
+    at.run()
+    assert not at.exception and not at.error
+    notes = [w.value for w in at.warning]
+    assert any("The data files need a look" in n and "load_backed_up.csv" in n for n in notes), notes
