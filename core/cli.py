@@ -263,8 +263,9 @@ def _cmd_resolution(args) -> int:
                     azimuth_deg=base.azimuth_deg if args.azimuth is None else args.azimuth)
     progress = stderr_progress("resolution") if sys.stderr.isatty() else None
     result = resolution_check(sc, args.option, layout, progress=progress)
+    warnings = report_warnings(result.warnings)
     if args.json:
-        print(json.dumps(result.to_dict(), indent=2))
+        print(json.dumps({**result.to_dict(), "warnings": warnings}, indent=2))
         return EXIT_OK
     rows = [("AC-coupled surplus over the loads", "ac_surplus_kwh", "kWh"),
             ("  in hours", "ac_surplus_hours", "h"), ("  largest step", "ac_surplus_peak_w", "W")]

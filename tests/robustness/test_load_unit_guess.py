@@ -65,6 +65,10 @@ def test_importer_warnings_reach_stderr_and_json(tmp_path):
     assert any("gap" in w and "load_backed_up.csv" in w for w in warnings)
     compare = run_cli(["compare", tmp_path / "harbour_view" / "scenario.toml", "--json"])
     assert compare.code == 0 and json.loads(compare.stdout)["warnings"] == warnings
+    check = run_cli(["check", tmp_path / "harbour_view" / "scenario.toml", "--json"])
+    assert check.code == 0 and all(f"warning: {w}" in check.stderr for w in warnings)
+    resolution = run_cli(["resolution", tmp_path / "harbour_view" / "scenario.toml", "--json"])
+    assert resolution.code == 0 and set(warnings) <= set(json.loads(resolution.stdout)["warnings"])
 
 
 def test_importer_warnings_reach_the_page(tmp_path, monkeypatch):
