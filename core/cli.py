@@ -6,15 +6,20 @@ Exit codes: 0 ok, 2 bad input (one line on stderr naming the place), 1 internal 
 from __future__ import annotations
 
 import argparse
-import errno
 import json
-import os
-import signal
 import sys
-import threading
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
+from core.cli_io import (
+    DEVICE_ERRNOS,
+    Terminated,
+    catch_termination,
+    quiet_stdout,
+    report_warnings,
+    restore_handlers,
+    site_warnings,
+)
 from core.errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
@@ -68,21 +73,6 @@ def format_year_table(result: dict) -> str:
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
               f"Weather: GHI {result['weather']['ghi_kwh_m2']:.0f} kWh/m² ({result['weather']['source']})"]
     return "\n".join(lines)
-
-
-def report_warnings(warnings) -> list[str]:
-    """Print every importer warning on stderr, one line each, and return them for the JSON output."""
-    found = [str(w) for w in warnings]
-    for text in found:
-        print(_one_line(f"warning: {text}"), file=sys.stderr)
-    return found
-
-
-def _site_warnings(comparison) -> tuple[str, ...]:
-    """The site's importer warnings of a comparison (every option shares one site)."""
-    for option in comparison.options.values():
-        return option.simulation.site.warnings
-    return ()
 
 
 # ------------------------------------------------------------------------------------------- subcommands
@@ -208,7 +198,7 @@ def _cmd_compare(args) -> int:
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
     comparison = compare(sc, layout, progress=progress)
     out = comparison.to_dict()
-    out["warnings"] = report_warnings(_site_warnings(comparison))
+    out["warnings"] = report_warnings(site_warnings(comparison))
     if args.json:
         print(json.dumps(out, indent=2))
     else:
@@ -228,7 +218,7 @@ def _cmd_check(args) -> int:
     if sc.expansion is not None:
         comparison = compare(sc, progress=progress)
         sims = {k: v.simulation for k, v in comparison.options.items()}
-        report_warnings(_site_warnings(comparison))
+        report_warnings(site_warnings(comparison))
     checks = [c for group in check_options(sc, sims=sims).values() for c in group]
     if args.json:
         print(json.dumps([c.to_dict() for c in checks], indent=2))
@@ -374,33 +364,9 @@ def _one_line(text: str) -> str:
     return " ".join(str(text).split())
 
 
-class Terminated(BaseException):
-    """SIGTERM or SIGHUP arrived: unwind like Ctrl-C, so that a partly written output is removed."""
-
-
-def _terminate(signum, _frame):
-    raise Terminated(signum)
-
-
-def _catch_termination() -> dict:
-    """Turn SIGTERM and SIGHUP into :class:`Terminated` (main thread only); returns the handlers to restore."""
-    if threading.current_thread() is not threading.main_thread():
-        return {}
-    previous = {}
-    for name in ("SIGTERM", "SIGHUP"):
-        number = getattr(signal, name, None)
-        if number is not None:
-            previous[number] = signal.signal(number, _terminate)
-    return previous
-
-
-#: Errors of the user's own output device (a full disk, a quota, a dead terminal): bad input, not our fault.
-_DEVICE_ERRNOS = {errno.ENOSPC, errno.EDQUOT, errno.EIO, errno.EROFS, errno.EFBIG}
-
-
 def main(argv: Sequence[str] | None = None) -> int:
     args = None
-    previous = _catch_termination()
+    previous = catch_termination()
     try:
         if sys.stdout is None:  # started with stdout closed: nothing could be shown, so nothing is done
             if sys.stderr is not None:
@@ -424,31 +390,20 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:
         return EXIT_OK
     except OSError as exc:
-        if exc.errno not in _DEVICE_ERRNOS:
+        if exc.errno not in DEVICE_ERRNOS:
             print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
                             "caused it)"), file=sys.stderr)
             return EXIT_INTERNAL
         print(_one_line(f"error: cannot write the output: {exc.strerror or exc} (the output device or disk; free "
                         "some space or write elsewhere)"), file=sys.stderr)
-        _quiet_stdout()
+        quiet_stdout()
         return EXIT_BAD_INPUT
     except Exception as exc:  # an internal error: say so in one line, never a traceback
         print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
                         "caused it)"), file=sys.stderr)
         return EXIT_INTERNAL
     finally:
-        for number, handler in previous.items():
-            signal.signal(number, handler)
-
-
-def _quiet_stdout() -> None:
-    """After a failed write to stdout, point it at /dev/null so that the interpreter's exit flush cannot fail
-    again (and print its own message)."""
-    try:
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-    except (OSError, ValueError, AttributeError):
-        pass
+        restore_handlers(previous)
 
 
 if __name__ == "__main__":
