@@ -18,9 +18,7 @@ $(STAMP): pyproject.toml
 venv: $(STAMP)
 
 run: $(STAMP)
-	SECONDROOF_SCENARIO=$(SITE) $(BIN)/python -m streamlit run explorer/app.py \
-		--server.address 127.0.0.1 --server.port $(PORT) --server.headless true \
-		--browser.gatherUsageStats false --client.showErrorDetails none
+	$(BIN)/python -m explorer $(SITE) --port $(PORT)
 
 test: $(STAMP)
 	$(BIN)/python -m ruff check core explorer tests

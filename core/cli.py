@@ -12,6 +12,15 @@ import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
+from core.cli_io import (
+    DEVICE_ERRNOS,
+    Terminated,
+    catch_termination,
+    quiet_stdout,
+    report_warnings,
+    restore_handlers,
+    site_warnings,
+)
 from core.errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
@@ -76,6 +85,7 @@ def format_year_table(result: dict) -> str:
     r, h = result["ratios"], result["hours"]
     lines += ["", f"Self-consumption {pct(r['self_consumption'])}   Self-sufficiency {pct(r['self_sufficiency'])}"
               f"   PV utilisation {pct(r['pv_utilisation'])}",
+              f"Load served {pct(r.get('load_served_share'))}   unserved {pct(r.get('load_unserved_share'))}",
               f"Hours: export {h['export']:.0f} h (uncontrolled {h['export_uncontrolled']:.0f} h), "
               f"outage {h['outage']:.0f} h, backed-up loads unserved {h['unserved_backed_up']:.0f} h",
               f"Battery: {result['battery']['equivalent_full_cycles']:.0f} equivalent full cycles",
@@ -101,6 +111,9 @@ def _cmd_simulate(args) -> int:
     from core.scenario import load_scenario
     from core.simulate import simulate
 
+    if args.steps_csv is not None and not args.steps_csv.strip():
+        raise InputError("--steps-csv needs a file name", where="command line",
+                         hint="e.g. --steps-csv steps.csv, or leave the option out")
     sc = load_scenario(args.scenario)
     if args.steps_csv:  # refuse a bad output name before the year is simulated
         from core.present.report import check_output_path
@@ -113,8 +126,6 @@ def _cmd_simulate(args) -> int:
     from core.analyses.running_costs import charge_window_value, money, outage_figures
 
     if args.draws is not None and args.draws < 0:
-        from core.errors import InputError
-
         raise InputError(f"--draws {args.draws} is below 0", where="--draws", hint="give 0 or more outage years")
     draws = None if args.draws == 0 else outage_draws(
         sc, sim.site, sim.sources, draws=args.draws, progress=stderr_progress("outage years") if progress else None)
@@ -127,9 +138,10 @@ def _cmd_simulate(args) -> int:
         write_steps_csv(sim, args.steps_csv, inputs=[Path(args.scenario)])
     from core.face_arrays import array_breakdown, step_note
 
+    warnings = report_warnings(sim.site.warnings)
     if args.json:
-        print(json.dumps({"name": sc.name, **out, "step_s": sim.site.step_s, "arrays": array_breakdown(sim)},
-                         indent=2))
+        print(json.dumps({"name": sc.name, **out, "step_s": sim.site.step_s, "arrays": array_breakdown(sim),
+                          "warnings": warnings}, indent=2))
     else:
         step = sim.site.step_s
         print(f"{sc.name}: one year at {step // 60}-minute steps\n" if step % 60 == 0 else f"{sc.name}\n")
@@ -168,6 +180,7 @@ def _cmd_inspect_load(args) -> int:
     from core.model.loads import inspect_load_summary
 
     summary = inspect_load_summary(args.file, timezone=args.timezone, unit=args.unit, column=args.column)
+    report_warnings(summary.get("warnings") or ())
     if args.json:
         print(json.dumps(summary, indent=2, default=str))
     else:
@@ -292,6 +305,7 @@ def _cmd_compare(args) -> int:
             out["outages"] = spread
             out["verdict"]["reasons"].append(sentence)
             out["verdict"]["text"] = f"{out['verdict']['text']} {sentence}"
+    out["warnings"] = report_warnings(site_warnings(comparison))
     if args.json:
         print(json.dumps(out, indent=2))
     else:
@@ -336,6 +350,7 @@ def _cmd_check(args) -> int:
     if sc.expansion is not None:
         comparison = compare(sc, progress=progress)
         sims = {k: v.simulation for k, v in comparison.options.items()}
+        report_warnings(site_warnings(comparison))
     checks = [c for group in check_options(sc, sims=sims).values() for c in group]
     if args.json:
         print(json.dumps([c.to_dict() for c in checks], indent=2))
@@ -370,8 +385,9 @@ def _cmd_resolution(args) -> int:
                     azimuth_deg=base.azimuth_deg if args.azimuth is None else args.azimuth)
     progress = stderr_progress("resolution") if sys.stderr.isatty() else None
     result = resolution_check(sc, args.option, layout, progress=progress)
+    warnings = report_warnings(result.warnings)
     if args.json:
-        print(json.dumps(result.to_dict(), indent=2))
+        print(json.dumps({**result.to_dict(), "warnings": warnings}, indent=2))
         return EXIT_OK
     rows = [("AC-coupled surplus over the loads", "ac_surplus_kwh", "kWh"),
             ("  in hours", "ac_surplus_hours", "h"), ("  largest step", "ac_surplus_peak_w", "W")]
@@ -523,9 +539,17 @@ def _one_line(text: str) -> str:
 
 def main(argv: Sequence[str] | None = None) -> int:
     args = None
+    previous = catch_termination()
     try:
+        if sys.stdout is None:  # started with stdout closed: nothing could be shown, so nothing is done
+            if sys.stderr is not None:
+                print("error: standard output is closed; nothing can be printed (run the command with an output "
+                      "or redirect it to a file)", file=sys.stderr)
+            return EXIT_BAD_INPUT
         args = build_parser().parse_args(argv)
-        return args.func(args)
+        code = args.func(args)
+        sys.stdout.flush()  # a full device is found here, not at exit where it would go unreported
+        return code
     except InputError as exc:
         scenario = getattr(args, "scenario", None)
         if exc.file is None and scenario and exc.where and exc.where != "command line":
@@ -533,15 +557,26 @@ def main(argv: Sequence[str] | None = None) -> int:
             exc = InputError(exc.message, file=scenario, where=exc.where, hint=exc.hint)
         print(_one_line(f"error: {exc}"), file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
+    except (KeyboardInterrupt, Terminated):
         print("interrupted", file=sys.stderr)
         return EXIT_INTERNAL
     except BrokenPipeError:
         return EXIT_OK
+    except OSError as exc:
+        if exc.errno not in DEVICE_ERRNOS:
+            print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
+                            "caused it)"), file=sys.stderr)
+            return EXIT_INTERNAL
+        print(_one_line(f"error: cannot write the output: {exc.strerror or exc} (the output device or disk; free "
+                        "some space or write elsewhere)"), file=sys.stderr)
+        quiet_stdout()
+        return EXIT_BAD_INPUT
     except Exception as exc:  # an internal error: say so in one line, never a traceback
         print(_one_line(f"internal error: {type(exc).__name__}: {exc} (please report this with the input that "
                         "caused it)"), file=sys.stderr)
         return EXIT_INTERNAL
+    finally:
+        restore_handlers(previous)
 
 
 if __name__ == "__main__":

@@ -11,6 +11,7 @@ reuses it: :func:`prepare_site` (weather, sun, loads, outages) is computed once 
 from __future__ import annotations
 
 import dataclasses
+import pathlib
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -22,7 +23,7 @@ from core.errors import InputError
 from core.model import conversion, dispatch, metrics, outages, pv, solar, sunshine, tariff
 from core.model import weather as weather_io
 from core.model.loads import build_year, read_load_csv
-from core.model.weather_monthly import monthly_weather
+from core.model.weather import monthly_weather
 from core.scenario import Array, Scenario
 from core.timebase import nominal_index, standard_offset
 
@@ -42,6 +43,8 @@ class SiteData:
     load_grid_only_w: np.ndarray
     grid_up: np.ndarray
     load_notes: dict = field(default_factory=dict)
+    #: What the importers noticed and accepted (weather, load files), in words; shown on the page and on stderr.
+    warnings: tuple[str, ...] = ()
 
     @property
     def dt_h(self) -> float:
@@ -66,11 +69,18 @@ def load_weather(sc: Scenario, tz=None) -> weather_io.Weather:
     tz = tz or standard_offset(site_timezone(sc))
     w = sc.weather
     if w.source == "monthly":
-        return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
-                               longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
+        try:
+            return monthly_weather(w.ghi_kwh_m2_day, w.temp_air_c, latitude=sc.site.latitude,
+                                   longitude=sc.site.longitude, altitude_m=sc.site.altitude_m, tz=tz, seed=w.seed)
+        except ValueError as exc:  # the generator's physics limits (ranges are the schema's): bad input here
+            where, _, message = str(exc).partition(": ")
+            raise InputError(message or where, where=where if message else "weather",
+                             hint="give the monthly mean of DAILY irradiation on a horizontal plane in "
+                                  "kWh/m2/day, January first") from None
     path = sc.resolve(w.path, "weather.path")
     return weather_io.read_weather_file(path, fmt=w.format, tz=tz, latitude=sc.site.latitude,
-                                        longitude=sc.site.longitude, altitude_m=sc.site.altitude_m)
+                                        longitude=sc.site.longitude, altitude_m=sc.site.altitude_m,
+                                        max_distance_km=w.max_distance_km)
 
 
 #: Simulation steps the engine offers (s); a finer source is simulated at the nearest of these not finer than it.
@@ -167,7 +177,18 @@ def prepare_site(sc: Scenario) -> SiteData:
     return SiteData(index=index, step_s=step_s, timezone=timezone, latitude=sc.site.latitude,
                     longitude=sc.site.longitude, weather=weather, geometry=geometry,
                     load_backed_w=load_b, load_grid_only_w=load_g, grid_up=outages.grid_up_mask(index, intervals),
-                    load_notes={"backed_up": notes_b, "grid_only": notes_g})
+                    load_notes={"backed_up": notes_b, "grid_only": notes_g},
+                    warnings=_importer_warnings(sc, weather, measured_b, measured_g))
+
+
+def _importer_warnings(sc: Scenario, weather, *measured) -> tuple[str, ...]:
+    """Every importer warning of a site, each naming its file."""
+    found = list(weather.warnings)
+    for key, load in zip(("path", "grid_only_path"), measured, strict=True):
+        if load is not None:
+            name = pathlib.Path(getattr(sc.load, key)).name
+            found += [f"load file {name}: {text}" for text in load.quality.warnings]
+    return tuple(dict.fromkeys(found))
 
 
 class OrientationCache:

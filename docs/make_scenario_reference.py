@@ -246,6 +246,8 @@ MEANINGS: dict[str, str] = {
     "[[tariff.periods]] hours": "[start, end) local clock hours (daylight saving applies).",
     "[[tariff.periods]] days": "'all', 'weekdays' or 'weekends' (holidays count as weekend days).",
     "[[tariff.periods]] months": "Months the period applies in (1…12); all when absent.",
+    "[weather] max_distance_km": "Farthest the weather file's own location may lie from the site, km, before it is "
+                                 "refused (a warning from 50 km).",
     "[design] module": "The module type the design search may add.",
     "[design] new_modules_max": "Most modules the search may add.",
     "[design] faces": "Faces it may use; every face with room when left out.",

@@ -10,10 +10,7 @@ input shows one message and the rest of the page keeps working.
 from __future__ import annotations
 
 import os
-import shutil
 import sys
-import tempfile
-import weakref
 from pathlib import Path
 
 import streamlit as st
@@ -23,8 +20,8 @@ if str(ROOT) not in sys.path:  # `streamlit run explorer/app.py` puts explorer/ 
     sys.path.insert(0, str(ROOT))
 
 from core.present.safety import SAFETY_CAUTIONS  # noqa: E402
-from explorer import caching, state  # noqa: E402
-from explorer.guard import section  # noqa: E402
+from explorer import caching, state, uploads  # noqa: E402
+from explorer.guard import harden, section  # noqa: E402
 from explorer.views import (  # noqa: E402
     baseload,
     checks,
@@ -69,18 +66,8 @@ KEEP = ("day_month", "sweep_axis", "sweep_top", "sweep_colour", "load_channel", 
         *data_files.BILL_KEYS)
 
 
-class SessionFolder:
-    """A temporary folder for one browser session's uploads, removed when the session ends."""
-
-    def __init__(self) -> None:
-        self.path = Path(tempfile.mkdtemp(prefix="secondroof-upload-"))
-        self._cleanup = weakref.finalize(self, shutil.rmtree, str(self.path), True)
-
-
 def upload_folder() -> Path:
-    if "upload_folder" not in st.session_state:
-        st.session_state["upload_folder"] = SessionFolder()
-    return st.session_state["upload_folder"].path
+    return uploads.session_folder(st.session_state)
 
 
 def keep_widget_values() -> None:
@@ -95,6 +82,7 @@ def safety() -> None:
 
 
 def main() -> None:
+    harden()
     st.set_page_config(page_title="secondroof · what would more panels add?", layout="wide",
                        initial_sidebar_state="expanded")
     # less empty space above the title than Streamlit's default
@@ -146,6 +134,7 @@ def main() -> None:
                     f"{st.session_state.get(calibration_view.APPLIED_KEY)!r}")
         model = caching.page_model(caching.built_scenario(identity, base, c), c.option)
         headline.render(model)
+        data_files.render_warning_notice(model.sim.site)
 
     for label, render in VIEWS:
         tab = tabs[label]

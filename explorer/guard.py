@@ -23,6 +23,12 @@ def private(text: str) -> str:
     return text
 
 
+def harden() -> None:
+    """The app's own guard, whatever the server was started with (another folder's ``.streamlit/config.toml``, or
+    none): error details never reach the page. Sections show their own messages; this covers the rest."""
+    st.set_option("client.showErrorDetails", "none")
+
+
 class Stop(Exception):
     """Raised inside a section to end it quietly after a message has been shown."""
 

@@ -17,8 +17,9 @@ from pathlib import Path
 
 from core.analyses.options import EXPANSION_OPTIONS, OPTION_LABELS, Option, applicable_options, layout_of
 from core.errors import InputError
-from core.files import write_atomic
+from core.files import MAX_SCENARIO_BYTES, read_input_bytes, write_atomic
 from core.scenario import PATH_KEYS, RandomOutages, Scenario, parse_scenario, scenario_to_dict
+from explorer.uploads import MAX_UPLOAD_BYTES  # noqa: F401 - the one upload limit, used here
 
 #: The options the explorer offers for the new panels (every option but the existing system). An *option* is how
 #: the new panels join the system; an array's ``coupling`` is only "ac" or "dc" (see the glossary in DEVELOPERS.md).
@@ -33,8 +34,6 @@ OUTAGE_LABELS = {"none": "No outages", "scenario": "As in the scenario file", "r
 DEFAULT_OUTAGES_PER_YEAR = 3.0
 DEFAULT_OUTAGE_HOURS = 4.0
 
-#: Largest upload the page accepts (bytes): a year of one-minute readings in CSV is about 20 MB.
-MAX_UPLOAD_BYTES = 40 * 1024 * 1024
 
 
 @dataclass(frozen=True)
@@ -228,8 +227,8 @@ def content_folder(folder: Path, *contents: bytes) -> Path:
 def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_UPLOAD_BYTES) -> Path:
     """Store an uploaded file in the session's own folder (never next to the user's files)."""
     if len(data) > limit_bytes:
-        raise InputError(f"the file is {len(data) / 1e6:.1f} MB, more than the {limit_bytes / 1e6:.0f} MB this page "
-                         "accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
+        raise InputError(f"the file is {len(data) / 2**20:.1f} MB, more than the {limit_bytes / 2**20:.0f} MB this "
+                         "page accepts", file=name, hint="resample the data to 5 or 15 minutes, or trim it to one year")
     if not data:
         raise InputError("the file is empty", file=name)
     return write_atomic(Path(folder) / safe_upload_name(name), data)
@@ -238,7 +237,7 @@ def save_upload(folder: Path, name: str, data: bytes, *, limit_bytes: int = MAX_
 def read_upload_scenario(folder: Path, name: str) -> tuple[Scenario, str | None]:
     """Parse an uploaded scenario from the session folder: paths resolve there and may not leave it."""
     path = Path(folder) / safe_upload_name(name)
-    raw = path.read_bytes()
+    raw = read_input_bytes(path, kind="scenario file", max_bytes=MAX_SCENARIO_BYTES)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -254,7 +253,7 @@ def sample_sites(root: Path) -> dict[str, Path]:
     for path in sorted(Path(root).glob("*/scenario.toml")):
         try:
             name = str(tomllib.loads(path.read_text("utf-8")).get("name") or path.parent.name)
-        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError, RecursionError):
             name = path.parent.name
         if name in out:
             name = f"{name} ({path.parent.name})"

@@ -113,7 +113,7 @@ def test_spacing_json_matches_the_rule(capsys):
 
 
 @pytest.mark.parametrize("argv, needle", [
-    (["compare", "no/such/file.toml"], "cannot read"),
+    (["compare", "no/such/file.toml"], "not found"),
     (["compare", SAMPLE, "--count", "-1"], "--count"),
     (["compare", SAMPLE, "--tilt", "95"], "--tilt"),
     (["spacing", "--latitude", "41", "--tilt", "10", "--length", "1.7", "--window", "14-10"], "window"),

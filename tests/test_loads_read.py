@@ -160,8 +160,10 @@ def test_unit_from_values_when_the_header_has_none():
     step = 900.0
     rng = np.random.default_rng(7)  # random-number seed
     kw = rng.uniform(0.2, 1.5, 500)
-    assert decide_unit("value", kw, step).unit == "kW"
-    assert decide_unit("value", kw * 1000.0, step).unit == "W"
+    # Hourly, mean power and energy per interval read the same: the magnitude picks kW or W.
+    assert decide_unit("value", kw, 3600.0).unit == "kW"
+    assert decide_unit("value", kw * 1000.0, 3600.0).unit == "W"
+    assert decide_unit("power", kw * 1000.0, step).unit == "W"      # a power word settles it at any step
     assert decide_unit("usage", kw / 4.0, step).unit == "kWh"        # energy word: per-interval energy
     register = 5000.0 + np.cumsum(kw / 4.0)
     decision = decide_unit("reading", register, step)

@@ -88,7 +88,7 @@ def test_paths_outside_a_confined_folder_are_refused(tmp_path):
 
 
 def test_unreadable_file_is_bad_input(tmp_path):
-    with pytest.raises(InputError, match="cannot read"):
+    with pytest.raises(InputError, match="scenario file not found"):
         load_scenario(tmp_path / "nope.toml")
     (tmp_path / "bin.toml").write_bytes(b"\xff\xfe\x00garbage")
     with pytest.raises(InputError):

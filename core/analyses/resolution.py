@@ -41,6 +41,7 @@ class ResolutionCheck:
     hourly_surplus: dict[str, float]
     hidden: dict[str, float]
     sentence: str
+    warnings: tuple[str, ...] = ()
 
     def to_dict(self) -> dict:
         return {"option": self.option, "native_step_s": self.native_step_s, "applicable": self.applicable,
@@ -137,4 +138,5 @@ def resolution_check(sc: Scenario, option: str | None = None, layout: Layout | N
     out = compare_resolutions(sc_option, native_site, hourly_site, option=option, layout=layout)
     if progress:
         progress(1.0, "done")
-    return out
+    # The importers' notes on the data (the same files at both steps), for the command line and the page.
+    return dataclasses.replace(out, warnings=tuple(dict.fromkeys(native_site.warnings + hourly_site.warnings)))

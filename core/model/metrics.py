@@ -222,9 +222,15 @@ def summarise_columns(c: Mapping[str, np.ndarray], *, months: MonthGroups, dt_h:
     ratios = {
         "self_consumption": None if _ratio(e["exported"], e["harvested"]) is None
         else 1.0 - e["exported"] / e["harvested"],
-        # The grid also feeds the system's own draw (idle, charger losses): with a tiny load the import can exceed
-        # the load, and the share is floored at 0 rather than shown negative.
-        "self_sufficiency": None if e["load"] <= 1e-9 else max(0.0, 1.0 - e["grid_import"] / e["load"]),
+        # Self-sufficiency as Luthander et al. (2015, Applied Energy 142, 80-94) define it: the share of the load
+        # covered by local production, against the WHOLE load, served or not (1 - import / load would call a year
+        # of unserved outages self-sufficient). Local supply = load served less grid import; the grid also feeds
+        # the system's own draw (idle, charger losses), so the share is floored at 0 rather than shown negative.
+        "self_sufficiency": None if e["load"] <= 1e-9
+        else min(1.0, max(0.0, (e["load_served"] - e["grid_import"]) / e["load"])),
+        # ... with the load's served and unserved shares beside it (they add up to 1).
+        "load_served_share": _ratio(e["load_served"], e["load"]),
+        "load_unserved_share": _ratio(e["unserved"], e["load"]),
         "pv_utilisation": _ratio(e["harvested"], e["pv_potential"]),
     }
     hours = totals.hours

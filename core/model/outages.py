@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import io
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from core.errors import InputError
+from core.files import MAX_OUTAGES_BYTES, read_input_bytes
 from core.timebase import NOMINAL_YEAR
 
 
@@ -27,8 +27,8 @@ def read_outages_csv(path, tz) -> list[tuple[pd.Timestamp, pd.Timestamp]]:
     Dates are mapped onto the nominal year by month, day and time of day, like every other series.
     """
     hint = "a UTF-8 CSV with columns start,end such as 2023-07-04 13:00,2023-07-04 16:30"
+    raw = read_input_bytes(path, kind="outage file", max_bytes=MAX_OUTAGES_BYTES, where="grid.outages_path")
     try:
-        raw = Path(path).read_bytes()
         text = raw.decode("utf-8-sig")
         table = pd.read_csv(io.StringIO(text), dtype=str, skipinitialspace=True)
     except UnicodeDecodeError as exc:

@@ -287,10 +287,23 @@ def headline_figures(results, baseline, *, payback_years: float | None = None,
         Headline("grid_import", "Grid import", "kWh/yr", e["grid_import"], b["grid_import"], False,
                  help="including the standing draw"),
         Headline("self_sufficiency", "Self-sufficiency", "%", pct(results, "self_sufficiency"),
-                 pct(baseline, "self_sufficiency"), True, help="1 − grid import / load (Luthander et al. 2015)"),
+                 pct(baseline, "self_sufficiency"), True,
+                 help="share of the whole load, served or not, covered by local production (Luthander et al. "
+                      f"2015); load served {_pct_text(results, 'load_served_share')}, unserved "
+                      f"{_pct_text(results, 'load_unserved_share')}"),
         Headline("payback", "Simple payback", "years", payback_years, baseline_payback_years, False,
                  help="cost of the new panels over the first year's saving"),
     ]
+
+
+def _share(results, key: str) -> float | None:
+    value = results.ratios.get(key)
+    return None if value is None else value * 100.0
+
+
+def _pct_text(results, key: str) -> str:
+    value = results.ratios.get(key)
+    return "—" if value is None else f"{value * 100:.1f} %"
 
 
 def secondary_figures(sim, baseline_sim) -> list[Headline]:
@@ -307,6 +320,9 @@ def secondary_figures(sim, baseline_sim) -> list[Headline]:
         Headline("unserved", "Backed-up loads unserved", "kWh/yr", e["unserved_backed_up"], eb["unserved_backed_up"],
                  False, help="backed-up load that could not be served during grid outages (a failure); grid-only "
                              "loads shed by design are not counted"),
+        Headline("load_unserved_share", "Load unserved", "%", _share(r, "load_unserved_share"),
+                 _share(b, "load_unserved_share"), False,
+                 help="share of the whole load that could not be served (outages); the rest was served"),
         Headline("cycles", "Battery cycles", "cycles/yr", r.battery.get("equivalent_full_cycles"),
                  b.battery.get("equivalent_full_cycles"), False, help="equivalent full cycles"),
     ]

@@ -82,6 +82,8 @@ def cross_check(sc: Scenario, r: Reader) -> None:
     for name, c in sc.controllers.items():
         if c.mppt_min_v >= c.mppt_max_v:
             r.fail(f"controllers.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
+    for name, m in sc.modules.items():
+        _check_datasheet(name, m, r)
     for name, m in sc.microinverters.items():
         if m.mppt_min_v >= m.mppt_max_v:
             r.fail(f"microinverters.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
@@ -187,3 +189,25 @@ def grid_checks(sc: Scenario, r: Reader) -> None:
             near = difflib.get_close_matches(t.holidays, list(holidays.list_supported_countries()), n=1, cutoff=0.3)
             r.fail("tariff.holidays", f"{t.holidays!r} is not a country code the holidays package knows",
                    f"did you mean {near[0]!r}?" if near else "use an ISO 3166 code such as 'US' or 'DE'")
+
+
+#: Largest mismatch accepted between a datasheet's Pmax and Vmp x Imp. The three printed figures agree within a
+#: percent or two (common practice; all but a handful of the CEC database's modules within 5 %); 10 % leaves room
+#: for rounded or hand-copied figures and still catches a wrong column or a wrong module.
+DATASHEET_POWER_TOLERANCE = 0.10
+
+
+def _check_datasheet(name: str, m, r: Reader) -> None:
+    """A module's STC figures must describe one I-V curve: Vmp below Voc, Imp below Isc, Pmax = Vmp x Imp."""
+    where = f"modules.{name}"
+    if m.vmp_v >= m.voc_v:
+        r.fail(f"{where}.vmp_v", f"Vmp {m.vmp_v:g} V is not below Voc {m.voc_v:g} V; no module works like that",
+               "copy vmp_v and voc_v from the datasheet's STC column (Vmp is the lower one)")
+    if m.imp_a >= m.isc_a:
+        r.fail(f"{where}.imp_a", f"Imp {m.imp_a:g} A is not below Isc {m.isc_a:g} A; no module works like that",
+               "copy imp_a and isc_a from the datasheet's STC column (Imp is the lower one)")
+    product = m.vmp_v * m.imp_a
+    if abs(m.pmax_w / product - 1.0) > DATASHEET_POWER_TOLERANCE:
+        r.fail(f"{where}.pmax_w", f"Pmax {m.pmax_w:g} W differs from Vmp x Imp = {product:.0f} W by "
+               f"{(m.pmax_w / product - 1.0) * 100:+.0f} %", "the three come from the same STC column of the "
+               "datasheet and agree within a few per cent; check each")

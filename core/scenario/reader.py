@@ -59,8 +59,11 @@ class Reader:
                 try:
                     return self.value(option, raw, where, meta)
                 except InputError as exc:
-                    errors.append(exc)
-            raise errors[-1]
+                    # The message of the option the value is shaped like: a bad number is reported as a number
+                    # (out of range), not as "expected a list" from the curve it was never meant to be.
+                    shaped_like = (typing.get_origin(option) is tuple) == isinstance(raw, list)
+                    errors.insert(0, exc) if shaped_like else errors.append(exc)
+            raise errors[0]
         if origin is Literal:
             if raw not in args:
                 near = difflib.get_close_matches(str(raw), [str(a) for a in args], n=1, cutoff=0.3)

@@ -43,6 +43,8 @@ class Weather:
     ghi_kwh_m2_day: tuple[float, ...] | None = field(default=None, metadata=_num(0, 12, unit="kWh/m²/day", count=MONTHS))
     temp_air_c: tuple[float, ...] | None = field(default=None, metadata=_num(-60, 50, count=MONTHS))
     seed: int = field(default=0, metadata=_num(0))  # numpy takes non-negative seeds only
+    # The farthest a weather file's own location may be from the site (km); beyond 50 km a warning is given.
+    max_distance_km: float = field(default=500.0, metadata=_num(0, 20040, unit="km"))
 
 
 @dataclass(frozen=True)

@@ -10,6 +10,7 @@ from pathlib import Path
 from typing import Any
 
 from core.errors import InputError
+from core.files import MAX_SCENARIO_BYTES, read_input_bytes
 from core.scenario.crosschecks import cross_check, with_face_orientations
 from core.scenario.reader import Reader
 from core.scenario.schema import PATH_KEYS, SCHEMA, Scenario
@@ -21,6 +22,9 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
     r = Reader(file)
     try:
         table = tomllib.loads(text)
+    except RecursionError:  # brackets nested thousands deep: no scenario is like that
+        r.fail("line 1", "not valid TOML: tables or lists nested too deeply to read",
+               "a scenario needs only a few levels of [sections] and lists")
     except tomllib.TOMLDecodeError as exc:
         # tomllib says "(at line 3, column 9)" or "(at end of document)" in its text; make that the place.
         found = re.search(r"\s*\(at (line \d+, column \d+|end of document)\)", str(exc))
@@ -34,7 +38,10 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
     for key in ("arrays", "faces"):
         if key in table and not isinstance(table[key], list):
             r.fail(key, f"expected [[{key}]] entries")
-    sc = r.build(Scenario, table, "")
+    try:
+        sc = r.build(Scenario, table, "")
+    except RecursionError:
+        r.fail("line 1", "tables or lists are nested too deeply", "a scenario needs only a few levels")
     sc = dataclasses.replace(sc, base_dir=Path(base_dir or ".").resolve(), confine_to=confine_to)
     cross_check(sc, r)
     sc = with_face_orientations(sc)
@@ -61,11 +68,7 @@ def _absolute_paths(sc: Scenario) -> Scenario:
 def load_scenario(path: str | os.PathLike, *, confine_to: Path | None = None) -> Scenario:
     """Read a scenario file; relative paths in it are resolved from its folder."""
     path = Path(path)
-    try:
-        raw = path.read_bytes()
-    except (OSError, ValueError) as exc:  # ValueError: a NUL character in the name
-        raise InputError(f"cannot read the scenario file: {getattr(exc, 'strerror', None) or exc}", file=str(path),
-                         hint="check the path") from exc
+    raw = read_input_bytes(path, kind="scenario file", max_bytes=MAX_SCENARIO_BYTES)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:

@@ -14,7 +14,7 @@ from core.present.figures import MONTH_NAMES
 from core.scenario import Scenario
 from core.simulate import site_timezone
 from core.timebase import standard_offset
-from explorer import state
+from explorer import state, uploads
 from explorer.guard import private, section
 
 LOAD_TYPES = ["csv", "txt", "tsv"]
@@ -159,7 +159,7 @@ def render_uploads(sc: Scenario, folder: Path) -> None:
                 current = dataclasses.replace(current, load_path=None, load_column=None, load_unit=None)
                 _store(current, load=None)
         upload = st.file_uploader("Load file (CSV export of a meter or logger)", type=LOAD_TYPES, key="load_file",
-                                  help=f"Up to {state.MAX_UPLOAD_BYTES // 1_000_000} MB. A timestamp column and "
+                                  help=f"Up to {uploads.LIMIT_TEXT}. A timestamp column and "
                                   "a power or energy column; the importer finds both and says what it decided.")
         channel = st.radio("The file holds", list(state.LOAD_CHANNELS), format_func=state.LOAD_CHANNELS.get,
                            key="load_channel", horizontal=True)
@@ -265,6 +265,14 @@ def render(m) -> None:
     render_current(m.sim)
 
 
+def render_warning_notice(site) -> None:
+    """One line under the headline when the importers noticed something (each note is in *Data files*)."""
+    found = list(site.warnings)
+    if found:
+        more = f" (and {len(found) - 1} more)" if len(found) > 1 else ""
+        st.warning(f"The data files need a look: {found[0]}{more}. Every note is under *Data files*.")
+
+
 def render_current(sim) -> None:
     """What the running simulation reads: the load records' summaries and the weather's."""
     site = sim.site
@@ -293,4 +301,6 @@ def render_current(sim) -> None:
     with right:
         st.markdown("#### Weather in use")
         _table(_weather_summary(site.weather))
+        for text in site.weather.warnings:
+            st.warning(text)
 

@@ -9,7 +9,7 @@ import streamlit as st
 
 from core.errors import InputError
 from core.scenario import Scenario, load_scenario
-from explorer import state
+from explorer import state, uploads
 from explorer.guard import private
 
 SCENARIO_TYPES = ["toml", "csv", "epw", "tm2", "txt"]
@@ -82,7 +82,7 @@ def render(root: Path, env_path: str | None, upload_folder: Path) -> Source | No
     files = st.file_uploader(
         "Scenario file (.toml) and the data files it names", type=SCENARIO_TYPES, accept_multiple_files=True,
         key="own_files", help="Upload them together: paths in the scenario are looked up among these files only. "
-        f"Up to {state.MAX_UPLOAD_BYTES // 1_000_000} MB per file.")
+        f"Up to {uploads.LIMIT_TEXT} per file.")
     if not files:
         st.info("Upload a scenario file (.toml) together with its weather and load files, "
                 "or choose a sample site.")

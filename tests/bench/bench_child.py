@@ -169,11 +169,42 @@ def profile(what: str, scenario_path: str, top: int = 25) -> str:
     return text.getvalue()
 
 
+def write_big_load(path: str, years: int = 10) -> dict:
+    """Write ``years`` of one-minute mean power (our own daily shape with gamma noise, seeded) as a plain CSV."""
+    import numpy as np
+    import pandas as pd
+
+    index = pd.date_range("2015-01-01", periods=years * 365 * 1440, freq="min")
+    rng = np.random.default_rng(1)  # random-number seed
+    power = 300 + 200 * np.sin(np.arange(len(index)) * 2 * np.pi / 1440) ** 2 + rng.gamma(2.0, 60.0, len(index))
+    with open(path, "w", encoding="utf-8") as fh:
+        fh.write("timestamp,power_w\n")
+        pd.DataFrame({"t": index.strftime("%Y-%m-%d %H:%M"), "w": np.round(power, 1)}).to_csv(
+            fh, header=False, index=False)
+    return {"rows": len(index), "mean_w": float(np.round(power, 1).mean())}
+
+
+def big_load(path: str) -> dict:
+    """Read a big load file from nothing in this fresh process: seconds and peak memory."""
+    from core.model.loads import read_load_csv
+
+    before = _rss_peak_mb()
+    t = time.perf_counter()
+    measured = read_load_csv(path, timezone="Europe/Berlin")
+    seconds = time.perf_counter() - t
+    return {"seconds": seconds, "peak_mb": _rss_peak_mb(), "rss_before_mb": before,
+            "cells": int(measured.power_w.size), "mean_w": float(measured.power_w.mean())}
+
+
 def main(argv: list[str]) -> int:
     if argv[:1] == ["compile"]:
         out = first_calls()
     elif argv[:1] == ["year"] and len(argv) == 3:
         out = year(int(argv[1]), argv[2])
+    elif argv[:1] == ["write_big_load"] and len(argv) == 2:
+        out = write_big_load(argv[1])
+    elif argv[:1] == ["big_load"] and len(argv) == 2:
+        out = big_load(argv[1])
     elif argv[:1] == ["profile"] and len(argv) == 3:
         print(profile(argv[1], argv[2]))
         return 0

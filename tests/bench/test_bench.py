@@ -2,7 +2,7 @@
 
 Not part of ``make test`` (``addopts`` skips ``tests/bench``) and never a timed assertion: it prints a table and
 one last line ``bench: sweep_ratio=… slider_ratio=… minute_over_hourly=… steps_exponent=… peak_mb=…
-design_ratio=… browser_slider_s=… shade_over_plain=…``.
+design_ratio=… browser_slider_s=… shade_over_plain=… draws_ratio=… big_load_s=… big_load_mb=…``.
 What it does assert is that the reference and secondroof compute the same year (the ratios compare like with
 like) and that the compiled engine matches the plain loop to 1e-9. docs/performance.md explains the figures.
 
@@ -21,6 +21,9 @@ like) and that the compiled engine matches the plain loop to 1e-9. docs/performa
 * draws_ratio: 200 independent outage years through the batched engine (``outage_draws``, masks and figures
   included, the site and sources prepared) ÷ the hourly year from nothing;
 * peak_mb: peak resident memory (``VmHWM``; ``ru_maxrss`` elsewhere) of a fresh process that runs the one-minute year;
+* big_load_s, big_load_mb: reading ten years of one-minute load readings (5.3 million rows, ~120 MB of CSV,
+  written by the bench into a temporary folder, never into the repository) in a fresh process: seconds and peak
+  resident memory;
 * numba's compile is measured apart, in a fresh process with an empty ``NUMBA_CACHE_DIR``;
 * browser_slider_s: the explorer itself (``streamlit run``) in headless Chromium at 1280×800: from an arrow key on
   the panel-count slider to the headline's new value, median of eight moves after a first one that warms the
@@ -81,10 +84,11 @@ REFERENCE_REPEATS = 2
 
 TARGETS = {"sweep_ratio": (">=", 50.0), "slider_ratio": (">=", 20.0), "minute_over_hourly": ("<=", 15.0),
            "steps_exponent": ("<=", 1.1), "peak_mb": ("<=", 1500.0), "design_ratio": (">=", 50.0),
-           "browser_slider_s": ("<=", 0.3), "shade_over_plain": ("<=", 3.0), "draws_ratio": ("<=", 10.0)}
+           "browser_slider_s": ("<=", 0.3), "shade_over_plain": ("<=", 3.0), "draws_ratio": ("<=", 10.0),
+           "big_load_s": ("<=", 10.0), "big_load_mb": ("<=", 1500.0)}
 FORMATS = {"sweep_ratio": ".1f", "slider_ratio": ".1f", "minute_over_hourly": ".2f", "steps_exponent": ".3f",
            "peak_mb": ".0f", "design_ratio": ".1f", "browser_slider_s": ".2f", "shade_over_plain": ".2f",
-           "draws_ratio": ".2f"}
+           "draws_ratio": ".2f", "big_load_s": ".1f", "big_load_mb": ".0f"}
 
 
 def _child(args: list[str], env: dict | None = None) -> dict:
@@ -275,12 +279,21 @@ def test_benchmark():
     else:
         browser, browser_note = None, "no /usr/bin/chromium: not measured"
     browser_slider_s = browser.headline_s if browser else float("nan")
+    # -- ten years of one-minute load readings, written to a temporary folder and read in a fresh process ---------
+    with tempfile.TemporaryDirectory(prefix="secondroof-bench-") as folder:
+        big_path = str(Path(folder) / "ten_years_minutes.csv")
+        written = _child(["write_big_load", big_path])
+        big_mb_file = Path(big_path).stat().st_size / 2**20
+        big = _child(["big_load", big_path])
+    # The same energy read back (the file's mean power, one-minute cells): the importer read every row.
+    assert abs(big["mean_w"] / written["mean_w"] - 1.0) < 1e-3, (big, written)
 
     sweep_ratio = reference_s / sweep_per
     slider_ratio = reference_s / slider_s
     figures = {"sweep_ratio": sweep_ratio, "slider_ratio": slider_ratio, "minute_over_hourly": minute_over_hourly,
                "steps_exponent": exponent, "peak_mb": peak_mb, "design_ratio": design["design_ratio"],
-               "browser_slider_s": browser_slider_s, "shade_over_plain": shade_over_plain, "draws_ratio": draws_ratio}
+               "browser_slider_s": browser_slider_s, "shade_over_plain": shade_over_plain, "draws_ratio": draws_ratio,
+               "big_load_s": big["seconds"], "big_load_mb": big["peak_mb"]}
 
     rows += [
         ("machine", _machine(), ""),
@@ -327,6 +340,10 @@ def test_benchmark():
          f"with a chimney (per-substring shading, I-V curves); {_verdict('shade_over_plain', shade_over_plain)}"),
         ("200 outage years", f"{draws_s:.2f} s", "batched engine, site and sources prepared"),
         ("draws ratio", f"{draws_ratio:.2f}", _verdict("draws_ratio", draws_ratio)),
+        ("ten years of minutes, read", f"{big['seconds']:.1f} s",
+         f"{written['rows']:,} rows, {big_mb_file:.0f} MB of CSV; {_verdict('big_load_s', big['seconds'])}"),
+        ("  peak memory", f"{big['peak_mb']:.0f} MB",
+         f"fresh process, {big['rss_before_mb']:.0f} MB after imports; {_verdict('big_load_mb', big['peak_mb'])}"),
         ("sweep ratio", f"{sweep_ratio:.1f}", _verdict("sweep_ratio", sweep_ratio)),
         ("slider ratio", f"{slider_ratio:.1f}", _verdict("slider_ratio", slider_ratio)),
         ("browser slider move", f"{browser_slider_s:.2f} s",

@@ -120,7 +120,7 @@ def monthly_ghi_for(latitude: float, clearness: float = 0.45) -> list[float]:
     """Twelve monthly mean daily GHI figures (kWh/m²/day) a sky at ``latitude`` can give: ``clearness`` times the
     month's mean extraterrestrial irradiation on a horizontal plane (Duffie & Beckman eq. 1.10.3, via the
     generator's own :func:`extraterrestrial_daily_wh_m2`). Polar-night months come out as zero."""
-    from core.model.weather_monthly import extraterrestrial_daily_wh_m2
+    from core.model.weather.monthly import extraterrestrial_daily_wh_m2
 
     lengths = (31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
     starts = np.cumsum((0, *lengths[:-1]))

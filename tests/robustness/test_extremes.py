@@ -14,6 +14,7 @@ import os
 
 import numpy as np
 import pandas as pd
+import pvlib
 import pytest
 
 from core.analyses.checks import run_checks
@@ -172,7 +173,10 @@ def test_leap_year_load_file_including_29_february(tmp_path):
 def test_leap_year_weather_file_drops_29_february(tmp_path):
     index = pd.date_range("2024-01-01", periods=8784, freq="h")
     temp = np.where((index.month == 2) & (index.day == 29), 40.0, 10.0)
-    ghi = np.clip(600 * np.sin((index.hour - 6) / 12 * np.pi), 0, None)
+    # GHI that follows the sun at the site (pvlib's Haurwitz clear sky at the interval midpoints), as the reader now
+    # checks irradiance against the sun.
+    zenith = pvlib.solarposition.get_solarposition(index.tz_localize("UTC") + pd.Timedelta(minutes=30), 45.0, 0.0)
+    ghi = pvlib.clearsky.haurwitz(zenith["apparent_zenith"])["ghi"].to_numpy()
     lines = ["timestamp,ghi,temp_air"] + [f"{t:%Y-%m-%d %H:%M},{g:.1f},{c:.1f}"
                                           for t, g, c in zip(index, ghi, temp, strict=True)]
     path = tmp_path / "leap.csv"

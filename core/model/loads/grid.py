@@ -75,23 +75,28 @@ def to_grid(start_s: np.ndarray, end_s: np.ndarray, energy_wh: np.ndarray, stret
     origin = np.floor((start_s[0] - phase_s) / step_s) * step_s + phase_s
     cells = int(np.ceil((end_s[-1] - origin) / step_s - 1e-9))
     edges = origin + np.arange(cells + 1, dtype=np.float64) * step_s
-    knots = np.column_stack([start_s, end_s]).ravel()
-    energy_cum = np.concatenate([[0.0], np.cumsum(energy_wh)])
-    energy_knots = np.column_stack([energy_cum[:-1], energy_cum[1:]]).ravel()
+    knots = np.empty(2 * start_s.size)
+    knots[0::2], knots[1::2] = start_s, end_s
     duration = end_s - start_s
-    time_cum = np.concatenate([[0.0], np.cumsum(duration)])
-    time_knots = np.column_stack([time_cum[:-1], time_cum[1:]]).ravel()
-    stretch_cum = np.concatenate([[0.0], np.cumsum(np.where(stretched, duration, 0.0))])
-    stretch_knots = np.column_stack([stretch_cum[:-1], stretch_cum[1:]]).ravel()
-    cell_energy = np.diff(np.interp(edges, knots, energy_knots))
-    cell_covered = np.diff(np.interp(edges, knots, time_knots))
-    cell_stretched = np.diff(np.interp(edges, knots, stretch_knots))
+    # One cumulative quantity at a time, so that a file of millions of rows holds few arrays of twice its length.
+    cell_energy = _cell_sums(edges, knots, energy_wh)
+    cell_covered = _cell_sums(edges, knots, duration)
+    cell_stretched = _cell_sums(edges, knots, np.where(stretched, duration, 0.0))
     known = cell_covered >= MIN_COVERED_SHARE * step_s
     power = np.full(cells, np.nan)
     power[known] = cell_energy[known] * 3600.0 / cell_covered[known]
     stretched_cells = known & (cell_stretched > 0.5 * cell_covered)
     return GridPower(origin_s=float(origin), step_s=step_s, power_w=power, measured=known & ~stretched_cells,
                      stretched=stretched_cells)
+
+
+def _cell_sums(edges: np.ndarray, knots: np.ndarray, per_span: np.ndarray) -> np.ndarray:
+    """How much of a quantity spread evenly over each span falls in each cell between ``edges``."""
+    cum = np.concatenate([[0.0], np.cumsum(per_span)])
+    at_knots = np.empty(2 * per_span.size)
+    at_knots[0::2], at_knots[1::2] = cum[:-1], cum[1:]
+    del cum
+    return np.diff(np.interp(edges, knots, at_knots))
 
 
 def fill_short_gaps(power_w: np.ndarray, max_cells: int) -> FilledGaps:

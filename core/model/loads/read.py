@@ -25,6 +25,7 @@ energy); longer gaps stay NaN for the year builder. Timestamps label interval *s
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import math
 import re
@@ -94,8 +95,10 @@ class _Rows:
 
     def __init__(self, lines: np.ndarray, raw_values: pd.Series, raw_times: pd.Series) -> None:
         self.lines = lines
-        self.raw_values = raw_values.to_numpy()
-        self.raw_times = raw_times.to_numpy()
+        # Kept as Series (compact strings), read one cell at a time for messages: as arrays of Python strings
+        # they would cost hundreds of MB on a file of millions of rows.
+        self.raw_values = raw_values.reset_index(drop=True)
+        self.raw_times = raw_times.reset_index(drop=True)
         self.reason = np.zeros(lines.size, dtype=np.int16)
         self.names: list[str] = [""]
         self.columns: list[str] = [""]
@@ -125,8 +128,8 @@ class _Rows:
             counts[reason] = int(hit.size)
             first = hit[np.argmin(self.lines[hit])]
             column = self.columns[code]
-            shown = self.raw_times[first] if "timestamp" in reason or "local time" in reason else \
-                self.raw_values[first]
+            shown = self.raw_times.iloc[first] if "timestamp" in reason or "local time" in reason else \
+                self.raw_values.iloc[first]
             warnings.append(f"column {column}: {hit.size} row(s) rejected, {reason} (first at row "
                             f"{int(self.lines[first])}: {str(shown)[:40]!r})")
         return counts, warnings
@@ -172,6 +175,8 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     decoded = read_text(path)
     progress(0.1, "finding the table")
     table = find_table(decoded.text, file)
+    encoding = decoded.encoding
+    del decoded  # the file's text is no longer needed once it is a table (it is as large as the file)
     progress(0.4, "reading timestamps and values")
     rows = table.rows
     time_columns = find_time_columns(rows, table.names, file)
@@ -228,7 +233,7 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         warnings.append(f"column {time_label}: timestamps are irregular (only {interval.regular_share:.0%} of "
                         f"steps equal the {step} s interval they were gridded to)")
     decision = decide_unit(value_column, v[order], interval.median_s, explicit=unit,
-                           suffix=numbers.unit_suffix)
+                           suffix=numbers.unit_suffix, file=file)
     warnings.extend(decision.warnings)
     unit_used = decision.unit
 
@@ -246,6 +251,13 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         raise InputError(f"{cells:.0f} intervals of {step} s are too many to hold", file=file,
                          where=f"column {time_label}",
                          hint="aggregate the readings to a coarser interval (e.g. 1 min) first")
+    # Every row is judged by now: summarise the rejections, then let the file's strings go (on a file of millions
+    # of rows they are hundreds of MB, and the grid below needs room of its own).
+    counts, reject_warnings = book.summary()
+    rows_read = int(len(rows) + table.malformed_rows.size)
+    table = dataclasses.replace(table, rows=table.rows.iloc[:0])
+    book.raw_values = book.raw_times = None
+    del rows, raw_times
     progress(0.8, "placing readings on a regular grid")
     phase = detect_phase(t[order], step)
     grid = to_grid(start, end, energy, stretched, step, phase)
@@ -264,7 +276,6 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     index = pd.date_range(pd.Timestamp(origin, unit="s", tz="UTC"), periods=power.size,
                           freq=pd.Timedelta(seconds=step), name="time_utc")
     series = pd.Series(gaps.power_w, index=index, name="power_w")
-    counts, reject_warnings = book.summary()
     if table.malformed_rows.size:
         counts = {"more fields than the header": int(table.malformed_rows.size), **counts}
         reject_warnings.insert(0, f"{table.malformed_rows.size} row(s) with more fields than the header "
@@ -300,13 +311,13 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
         timezone=timezone,
         time_column=" + ".join(time_columns.names),
         column=value_column,
-        encoding=decoded.encoding,
+        encoding=encoding,
         separator=SEPARATOR_NAMES[table.separator],
         decimal=numbers.decimal,
         header_row=table.header_row,
         first_data_row=table.first_data_row,
         preamble_rows=table.preamble_rows,
-        rows_read=int(len(rows) + table.malformed_rows.size),
+        rows_read=rows_read,
         rows_used=int(span_lines.size),
         regular_pct=100.0 * interval.regular_share,
         filled_intervals=filled_cells,

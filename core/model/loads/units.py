@@ -87,8 +87,12 @@ def _median_positive(values: np.ndarray) -> float:
 
 
 def decide_unit(name: str, values: np.ndarray, interval_s: float, *, explicit: str | None = None,
-                suffix: str | None = None) -> UnitDecision:
-    """Decide the unit of a load column; ``values`` are the usable readings in time order."""
+                suffix: str | None = None, file: str | None = None) -> UnitDecision:
+    """Decide the unit of a load column; ``values`` are the usable readings in time order.
+
+    Where neither the caller nor the header says whether the column holds mean power or energy per interval, and
+    the interval is not one hour (where the two readings agree), the column is refused: a guess would be wrong
+    by the number of intervals per hour, silently. The message shows what each reading would mean."""
     register, drops = looks_like_register(values)
     lowered = name.lower()
     if explicit is not None:
@@ -127,8 +131,35 @@ def decide_unit(name: str, values: np.ndarray, interval_s: float, *, explicit: s
         reason = (f"no unit in the header {name!r}, which names energy: energy per interval; {unit} puts the "
                   f"median use nearest a household's typical {TYPICAL_HOUSEHOLD_W:.0f} W")
     else:
+        if not any(w in lowered for w in _POWER_WORDS):
+            _refuse_power_or_energy(name, values, interval_s, file)
         unit = _nearest_typical({"kW": level * 1000.0, "W": level})
         reason = (f"no unit in the header {name!r}: taken as mean power; {unit} puts the median nearest a "
                   f"household's typical {TYPICAL_HOUSEHOLD_W:.0f} W")
     return UnitDecision(unit, reason, (f"column {name!r}: no unit in the header; read as {unit} — give "
                                        "load.unit if that is wrong",))
+
+
+#: Intervals within this many seconds of an hour read the same as power and as energy per interval.
+_HOUR_TOLERANCE_S = 1.0
+
+
+def _refuse_power_or_energy(name: str, values: np.ndarray, interval_s: float, file: str | None) -> None:
+    """Raise InputError when a neutral header at a sub-hourly or multi-hour interval leaves power and energy per
+    interval both possible; the message gives the year's use under each reading."""
+    if abs(interval_s - 3600.0) <= _HOUR_TOLERANCE_S:
+        return
+    finite = values[np.isfinite(values)]
+    mean = float(finite.mean()) if finite.size else 0.0
+    level = _median_positive(values)
+    power_unit = _nearest_typical({"kW": level * 1000.0, "W": level})
+    energy_unit = _nearest_typical({"kWh": level * 3600.0 / interval_s * 1000.0, "Wh": level * 3600.0 / interval_s})
+    as_power_kwh = mean * SCALE[power_unit] * 8760.0 / 1000.0
+    as_energy_kwh = mean * SCALE[energy_unit] * 3600.0 / interval_s * 8760.0 / 1000.0
+    minutes = interval_s / 60.0
+    raise InputError(
+        "has no unit, and its header does not say whether it holds mean power or energy per "
+        f"interval: as {power_unit}: {as_power_kwh:,.0f} kWh a year; as {energy_unit} per {minutes:g}-minute "
+        f"interval: {as_energy_kwh:,.0f} kWh a year", file=file, where=f"column {name!r}",
+        hint=f"set load.unit = '{power_unit}' (mean power) or '{energy_unit}' (energy per interval) in the "
+             "scenario (or name the unit in the header, e.g. 'power_w' or 'energy_wh')")

@@ -113,12 +113,15 @@ def main() -> None:
     write("quoted_decimal_comma.csv", quoted, energy=e15, clean=True,
           note="comma separated with quoted decimal-comma values")
     write("no_header.csv", "\n".join(f"{iso(t)},{v}" for t, v in zip(q15, w_text, strict=True)) + "\n",
-          energy=e15, contains=("no header row", "column 'column 2'"), note="data from the first line on")
+          energy=e15, contains=("no header row", "column 'column 2'"), kwargs={"unit": "W"},
+          note="data from the first line on; with no header the unit must be given")
     several = "time,voltage_v,power_w,pv_power_w\n" + "".join(
         f"{iso(t)},230.1,{v},0\n" for t, v in zip(q15, w_text, strict=True))
     write("several_numeric_columns.csv", several, energy=e15, contains=("column 'power_w' used as the load",))
     unitless = table(q15, kw_text, "time,value")
-    write("unknown_unit.csv", unitless, energy=e15, contains=("column 'value': no unit in the header",))
+    write("unknown_unit.csv", unitless, expect="error",
+          contains=("column 'value'", "has no unit", "as kW: ", "as kWh per 15-minute interval: ", "load.unit"),
+          note="a neutral header at 15 minutes: power or energy per interval cannot be told, so it is refused")
     epoch = "unix_time,power_w\n" + "".join(f"{int(t.timestamp())},{v}\n" for t, v in zip(q15, w_text,
                                                                                           strict=True))
     write("epoch_seconds.csv", epoch, energy=e15, clean=True)
