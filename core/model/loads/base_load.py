@@ -63,7 +63,8 @@ def base_load_w(power_w: pd.Series, *, latitude: float | None = None, window: st
     empty = pd.DataFrame({"night_w": np.nan, "day_w": np.nan, "all_w": np.nan}, index=months)
     index = _index_in(power_w, tz)
     values = pd.Series(np.asarray(power_w, dtype=np.float64), index=index)
-    values = values[~values.index.duplicated()].sort_index()
+    if not (index.is_monotonic_increasing and index.is_unique):  # a regular grid is both: no copy, no hash table
+        values = values[~values.index.duplicated()].sort_index()
     if values.notna().sum() < 2:
         empty.attrs["method"] = "no data"
         return empty
@@ -82,7 +83,8 @@ def base_load_w(power_w: pd.Series, *, latitude: float | None = None, window: st
         clock = centres.hour.to_numpy() + centres.minute.to_numpy() / 60.0
         day = (clock >= DAY_START_H) & (clock < DAY_END_H)
         how = f"local clock {DAY_START_H:02.0f}:00–{DAY_END_H:02.0f}:00 is day"
-    frame = pd.DataFrame({"month": centres.month.to_numpy(), "day": day, "w": rolled.to_numpy()})
+    frame = pd.DataFrame({"month": centres.month.to_numpy(dtype=np.int8), "day": day, "w": rolled.to_numpy()})
+    del centres, rolled, values
     q = percentile / 100.0
     min_windows = max(1, int(np.ceil(min_hours * 3600.0 / step_s)))
 
@@ -90,9 +92,17 @@ def base_load_w(power_w: pd.Series, *, latitude: float | None = None, window: st
         counts = group.count()
         return group.quantile(q).where(counts >= min_windows)
 
+    # Night and day in one grouping by (month, day): each group holds the same values as a grouping of the night
+    # (or day) rows alone, so the percentiles are the same, without a copy of the frame for each class.
+    split = by(frame.groupby(["month", "day"])["w"])
+
+    def of_class(is_day: bool) -> pd.Series:
+        part = split[split.index.get_level_values("day") == is_day]
+        return pd.Series(part.to_numpy(), index=part.index.get_level_values("month"), dtype=np.float64)
+
     out = pd.DataFrame(index=months)
-    out["night_w"] = by(frame[~frame["day"]].groupby("month")["w"]).reindex(months)
-    out["day_w"] = by(frame[frame["day"]].groupby("month")["w"]).reindex(months)
+    out["night_w"] = of_class(False).reindex(months)
+    out["day_w"] = of_class(True).reindex(months)
     out["all_w"] = by(frame.groupby("month")["w"]).reindex(months)
     out.attrs["method"] = (f"{percentile:g}th percentile of {window} rolling means per month; {how}")
     return out

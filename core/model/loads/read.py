@@ -43,7 +43,7 @@ from core.model.loads.decode import read_text
 from core.model.loads.grid import MAX_CELLS, detect_interval, detect_phase, fill_short_gaps, to_grid
 from core.model.loads.numbers import parse_numbers
 from core.model.loads.quality import LoadQuality
-from core.model.loads.table import LINE_COLUMN, SEPARATOR_NAMES, RawTable, find_table
+from core.model.loads.table import LINE_COLUMN, SEPARATOR_NAMES, RawTable, find_table, release_string_memory
 from core.model.loads.timestamps import TimeColumns, find_time_columns, parse_times, zone_or_error
 from core.model.loads.units import (
     POWER_UNITS,
@@ -258,6 +258,7 @@ def _read(path: Path, file: str, *, column: str | None, unit: str | None, timezo
     table = dataclasses.replace(table, rows=table.rows.iloc[:0])
     book.raw_values = book.raw_times = None
     del rows, raw_times
+    release_string_memory()
     progress(0.8, "placing readings on a regular grid")
     phase = detect_phase(t[order], step)
     grid = to_grid(start, end, energy, stretched, step, phase)

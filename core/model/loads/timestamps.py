@@ -53,10 +53,38 @@ class ParsedTimes:
 def _strings(column: pd.Series) -> pd.Series:
     text = column.astype("str")
     # Each strip copies every string: look at the first and last characters first (most exports are clean).
-    edges = pd.concat([text.str[:1], text.str[-1:]])
-    if not edges.isin([" ", "\t", '"']).any():
+    if not _edges_hold(text, (" ", "\t", '"')):
         return text
     return text.str.strip().str.strip('"').str.strip()
+
+
+def _edges_hold(text: pd.Series, chars: tuple[str, ...]) -> bool:
+    """Whether any string of ``text`` starts or ends with one of ``chars`` (pyarrow's tests on pyarrow-held
+    strings, without a copy of each string's edges)."""
+    try:
+        import pyarrow as pa
+        import pyarrow.compute as pc
+
+        values = pa.Array.from_pandas(text)
+        return any(bool(pc.any(test(values, c)).as_py()) for c in chars for test in (pc.starts_with, pc.ends_with))
+    except Exception:  # noqa: BLE001 - strings not held by pyarrow: pandas' way
+        edges = pd.concat([text.str[:1], text.str[-1:]])
+        return bool(edges.isin(list(chars)).any())
+
+
+def _matches_at_end(text: pd.Series, pattern: str, tails: tuple[str, ...], width: int) -> pd.Series:
+    """``text.str.contains(pattern)`` for a pattern anchored at the end whose match must put one of ``tails``
+    within the last ``width`` characters: the pattern runs only on the rows where one does (usually none), which on
+    millions of rows is many times quicker than running it on all of them."""
+    end = text.str.slice(-width)
+    maybe = np.zeros(len(text), dtype=bool)
+    for tail in tails:
+        maybe |= end.str.contains(tail, regex=False).to_numpy(dtype=bool, na_value=False)
+    del end
+    out = pd.Series(np.zeros(len(text), dtype=bool), index=text.index)
+    if maybe.any():
+        out[maybe] = text[maybe].str.contains(pattern, regex=True).to_numpy(dtype=bool, na_value=False)
+    return out
 
 
 def _spread(values: pd.Series, size: int = 50_000) -> pd.Series:
@@ -180,10 +208,11 @@ def parse_times(rows: pd.DataFrame, columns: TimeColumns, timezone: str | None, 
         text = _strings(rows[columns.names[0]])
     label = " + ".join(repr(n) for n in columns.names)
     empty = (text.str.strip() == "").to_numpy()
-    midnight24 = text.str.contains(_MIDNIGHT_24, regex=True).to_numpy()
+    # Both patterns end the string: the last 9 characters hold " 24:00:00", the last 6 an offset's sign or letter.
+    midnight24 = _matches_at_end(text, _MIDNIGHT_24, ("24:00",), 9).to_numpy()
     if midnight24.any():
         text = _midnight_24_to_0(text)
-    aware = text.str.contains(_OFFSET, regex=True).to_numpy() & ~empty
+    aware = _matches_at_end(text, _OFFSET, ("Z", "UTC", "GMT", "+", "-"), 6).to_numpy() & ~empty
     warnings: list[str] = []
     lines = rows["__line__"].to_numpy()
     if aware.any() and not aware[~empty].all():
@@ -332,18 +361,32 @@ def _localize(naive: pd.DatetimeIndex, timezone: str) -> tuple[pd.DatetimeIndex,
     """
     zone = zone_or_error(timezone)
     n = len(naive)
-    first = naive.tz_localize(zone, ambiguous=np.ones(n, dtype=bool), nonexistent="NaT")
-    second = naive.tz_localize(zone, ambiguous=np.zeros(n, dtype=bool), nonexistent="NaT")
-    nonexistent = np.asarray(first.isna()) & np.asarray(naive.notna())
-    ambiguous = np.asarray(first != second) & ~nonexistent & np.asarray(naive.notna())
+    # One pass over every row leaves the few repeated or skipped clock times as NaT; only those are localized both
+    # ways (first pass as daylight time, second as standard time): on millions of rows that is a third of the work.
+    plain = naive.tz_localize(zone, ambiguous="NaT", nonexistent="NaT")
+    odd = np.flatnonzero(np.asarray(plain.isna()) & np.asarray(naive.notna()))
+    unit = plain.unit
+    first_i8 = plain.asi8.copy()
+    second_i8 = first_i8.copy()
+    del plain
+    if odd.size:
+        some = naive[odd]
+        first_i8[odd] = some.tz_localize(zone, ambiguous=np.ones(odd.size, dtype=bool), nonexistent="NaT").asi8
+        second_i8[odd] = some.tz_localize(zone, ambiguous=np.zeros(odd.size, dtype=bool), nonexistent="NaT").asi8
+    first = pd.DatetimeIndex(first_i8.view(f"datetime64[{unit}]")).tz_localize("UTC")
+    nonexistent = np.zeros(n, dtype=bool)
+    nonexistent[odd] = np.asarray(first[odd].isna())
+    ambiguous = np.zeros(n, dtype=bool)
+    ambiguous[odd] = first_i8[odd] != second_i8[odd]
+    ambiguous &= ~nonexistent
     result = first
     if ambiguous.any():
         # Order of appearance among rows sharing the same clock time: 0 = daylight pass, 1 = standard pass.
         occurrence = pd.Series(naive[ambiguous]).groupby(pd.Series(naive[ambiguous])).cumcount().to_numpy()
         use_second = np.zeros(n, dtype=bool)
         use_second[np.flatnonzero(ambiguous)[occurrence >= 1]] = True
-        ticks = np.where(use_second, second.as_unit("us").asi8, first.as_unit("us").asi8)
-        result = pd.DatetimeIndex(ticks.astype("datetime64[us]")).tz_localize("UTC")
+        ticks = np.where(use_second, second_i8, first_i8)
+        result = pd.DatetimeIndex(ticks.view(f"datetime64[{unit}]")).as_unit("us").tz_localize("UTC")
     utc = result.tz_convert("UTC")
     handling = (f"local clock time in {timezone} converted to UTC (repeated autumn hour: first occurrence "
                 "taken as daylight time; skipped spring hour: rows rejected)")
