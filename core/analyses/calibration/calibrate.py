@@ -30,6 +30,7 @@ from core.analyses.calibration.model import (
 from core.analyses.calibration.record import ALL_DC, MonitoringRecord, read_monitoring
 from core.analyses.calibration.screening import REASONS, Screen, screen_pv
 from core.errors import InputError
+from core.files import MAX_WEATHER_BYTES, check_input_file
 from core.model import weather as weather_io
 from core.scenario import Scenario
 from core.simulate import load_weather, site_timezone
@@ -150,7 +151,9 @@ def calibrate(sc: Scenario, *, progress: Callable[[float, str], None] | None = N
     cs_model = model_arrays(sc, index, step, clearsky_weather(index, step, sc, typical), "clear sky (Ineichen)")
     period_model: ModelledArrays | None = None
     if m.weather_path:
-        period = weather_io.read_weather_file(sc.resolve(m.weather_path, "measured.weather_path"), tz=tz,
+        weather_path = check_input_file(sc.resolve(m.weather_path, "measured.weather_path"), kind="weather file",
+                                        max_bytes=MAX_WEATHER_BYTES, where="measured.weather_path")
+        period = weather_io.read_weather_file(weather_path, tz=tz,
                                               latitude=sc.site.latitude, longitude=sc.site.longitude,
                                               altitude_m=sc.site.altitude_m)
         period_model = model_arrays(sc, index, step, on_record_times(period, index, sc), "the period's weather")

@@ -18,8 +18,9 @@ import numpy as np
 import pandas as pd
 
 from core.errors import InputError
+from core.files import check_input_file
 from core.model.loads import read_load_csv
-from core.model.loads.decode import read_text
+from core.model.loads.decode import MAX_FILE_BYTES, read_text
 from core.model.loads.table import LINE_COLUMN, find_table
 from core.model.loads.timestamps import find_time_columns, parse_times
 
@@ -27,6 +28,9 @@ from core.model.loads.timestamps import find_time_columns, parse_times
 MIN_RECORD_DAYS = 7.0
 #: Key of the PV channel when one column holds all existing DC-coupled arrays.
 ALL_DC = "*"
+#: What to do with an export above the importer's size limit (``core.model.loads.decode.MAX_FILE_BYTES``).
+MONITORING_SIZE_HINT = ("export a shorter period or a coarser interval (a year of 5-minute readings of a few "
+                        "channels is a few MB)")
 
 
 @dataclass(frozen=True, eq=False)
@@ -107,7 +111,10 @@ def read_monitoring(path: str | Path, *, pv: str | dict[str, str] | None, grid_i
     """Read a monitoring export (see the module docstring). ``pv`` is one column for all DC-coupled arrays or a
     mapping {array name: column}; the other channels are optional column names. ``timezone`` is the IANA zone
     of naive timestamps. Every bad input raises :class:`InputError` naming the file."""
-    path = Path(path)
+    # A regular file under the importer's stated size, checked before anything opens it: a device would be read
+    # until memory runs out and a pipe would block; the message names the scenario key.
+    path = check_input_file(path, kind="monitoring export", max_bytes=MAX_FILE_BYTES, where="measured.path",
+                            size_hint=MONITORING_SIZE_HINT)
     file = str(path)
     check_time_order(path, file, timezone)
     pv_columns = {} if pv is None else ({ALL_DC: pv} if isinstance(pv, str) else dict(pv))
