@@ -77,32 +77,44 @@ def base_load_w(power_w: pd.Series, *, latitude: float | None = None, window: st
         empty.attrs["method"] = "no complete window"
         return empty
     centres = rolled.index - pd.Timedelta(seconds=cells * step_s / 2.0) + pd.Timedelta(seconds=step_s / 2.0)
+    wall = centres.tz_localize(None) if centres.tz is not None else centres  # local clock time, converted once
     if latitude is not None:
         day, how = _sun_up(centres, latitude, longitude)
     else:
-        clock = centres.hour.to_numpy() + centres.minute.to_numpy() / 60.0
+        clock = wall.hour.to_numpy() + wall.minute.to_numpy() / 60.0
         day = (clock >= DAY_START_H) & (clock < DAY_END_H)
         how = f"local clock {DAY_START_H:02.0f}:00–{DAY_END_H:02.0f}:00 is day"
-    frame = pd.DataFrame({"month": centres.month.to_numpy(dtype=np.int8), "day": day, "w": rolled.to_numpy()})
-    del centres, rolled, values
+    # One stable sort by (month, night or day) puts each class of each month in one run, night before day, so
+    # that a month's two runs side by side are the whole month: no frame, no copy per class or per month.
+    codes = (wall.month.to_numpy() - 1) * 2 + np.asarray(day, dtype=np.int64)
+    grouped = rolled.to_numpy()[np.argsort(codes, kind="stable")]
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(codes, minlength=24))])
+    del centres, wall, rolled, values, codes, day
     q = percentile / 100.0
     min_windows = max(1, int(np.ceil(min_hours * 3600.0 / step_s)))
 
-    def by(group: pd.core.groupby.SeriesGroupBy) -> pd.Series:
-        counts = group.count()
-        return group.quantile(q).where(counts >= min_windows)
-
-    # Night and day in one grouping by (month, day): each group holds the same values as a grouping of the night
-    # (or day) rows alone, so the percentiles are the same, without a copy of the frame for each class.
-    split = by(frame.groupby(["month", "day"])["w"])
-
-    def of_class(is_day: bool) -> pd.Series:
-        part = split[split.index.get_level_values("day") == is_day]
-        return pd.Series(part.to_numpy(), index=part.index.get_level_values("month"), dtype=np.float64)
+    def by(first: int, last: int) -> float:
+        """The percentile of the runs from ``first`` to ``last`` (exclusive), NaN with too few windows."""
+        a, b = bounds[first], bounds[last]
+        return _group_quantile(grouped[a:b], q) if b - a >= min_windows else np.nan
 
     out = pd.DataFrame(index=months)
-    out["night_w"] = of_class(False).reindex(months)
-    out["day_w"] = of_class(True).reindex(months)
-    out["all_w"] = by(frame.groupby("month")["w"]).reindex(months)
+    out["night_w"] = [by(2 * m, 2 * m + 1) for m in range(12)]
+    out["day_w"] = [by(2 * m + 1, 2 * m + 2) for m in range(12)]
+    out["all_w"] = [by(2 * m, 2 * m + 2) for m in range(12)]
     out.attrs["method"] = (f"{percentile:g}th percentile of {window} rolling means per month; {how}")
     return out
+
+
+def _group_quantile(values: np.ndarray, q: float) -> float:
+    """The ``q`` quantile of ``values`` (all finite) with linear interpolation between the two order statistics
+    around ``q × (n − 1)``, as pandas' grouped quantile computes it (``val + (next − val) × frac``), so the figures
+    do not change with the way they are computed; the two order statistics come from a partition, not a sort."""
+    q_idx = q * float(values.size - 1)
+    idx = int(q_idx)
+    frac = q_idx % 1
+    if frac == 0.0:
+        return float(np.partition(values, idx)[idx])
+    part = np.partition(values, (idx, idx + 1))
+    val, nxt = float(part[idx]), float(part[idx + 1])
+    return val + (nxt - val) * frac
