@@ -86,7 +86,7 @@ def base_load_w(power_w: pd.Series, *, latitude: float | None = None, window: st
         how = f"local clock {DAY_START_H:02.0f}:00–{DAY_END_H:02.0f}:00 is day"
     # One stable sort by (month, night or day) puts each class of each month in one run, night before day, so
     # that a month's two runs side by side are the whole month: no frame, no copy per class or per month.
-    codes = (wall.month.to_numpy() - 1) * 2 + np.asarray(day, dtype=np.int64)
+    codes = ((wall.month.to_numpy() - 1) * 2 + np.asarray(day, dtype=np.int64)).astype(np.int8)
     grouped = rolled.to_numpy()[np.argsort(codes, kind="stable")]
     bounds = np.concatenate([[0], np.cumsum(np.bincount(codes, minlength=24))])
     del centres, wall, rolled, values, codes, day

@@ -81,7 +81,9 @@ def to_grid(start_s: np.ndarray, end_s: np.ndarray, energy_wh: np.ndarray, stret
     # One cumulative quantity at a time, so that a file of millions of rows holds few arrays of twice its length.
     cell_energy = _cell_sums(edges, knots, energy_wh)
     cell_covered = _cell_sums(edges, knots, duration)
-    cell_stretched = _cell_sums(edges, knots, np.where(stretched, duration, 0.0))
+    # Without stretched spans (every file but a register's with short gaps) their sum is zero in every cell.
+    cell_stretched = _cell_sums(edges, knots, np.where(stretched, duration, 0.0)) if stretched.any() else \
+        np.zeros(cells)
     known = cell_covered >= MIN_COVERED_SHARE * step_s
     power = np.full(cells, np.nan)
     power[known] = cell_energy[known] * 3600.0 / cell_covered[known]

@@ -499,6 +499,9 @@ def _interval_spans(t: np.ndarray, v: np.ndarray, order: np.ndarray, book: _Rows
     _reject_spikes(nominal, keep, order, book, value_label)
     keep = book.ok[order]
     energy = power * duration / 3600.0
+    del power, nominal, values, duration, bad  # five arrays of a row each, before the kept rows are copied
+    if keep.all():  # the usual file: every row kept, nothing to copy
+        return start, end, energy, np.zeros(keep.size, dtype=bool), book.lines[order]
     return (start[keep], end[keep], energy[keep], np.zeros(int(keep.sum()), dtype=bool),
             book.lines[order[keep]])
 
