@@ -16,6 +16,8 @@ from core.errors import InputError
 #: The nominal year every source is aligned onto (not a leap year; 1 January is a Sunday).
 NOMINAL_YEAR = 2023
 HOURS_PER_YEAR = 8760
+#: Month abbreviations in English whatever the locale, for labels and messages.
+MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 #: Finest simulation step. A year at one minute is 525,600 steps (a few hundred MB of flows); at one second it
 #: would be 31.5 million (many GB), so finer readings are averaged to the step instead.
 MIN_STEP_S = 60

@@ -14,6 +14,7 @@ import numpy as np
 import pandas as pd
 
 from core.model.metrics import ac_surplus_w
+from core.timebase import MONTH_NAMES
 
 # ---------------------------------------------------------------------------------------------- colours
 # The Okabe–Ito palette, distinguishable under the common colour-vision deficiencies (Okabe & Ito, "Color
@@ -66,7 +67,6 @@ DIVERGING_SCHEME = "blueorange"
 #: Sequential map for amounts (viridis: perceptually uniform and colour-blind safe).
 SEQUENTIAL_SCHEME = "viridis"
 
-MONTH_NAMES = tuple(calendar.month_abbr[m] for m in range(1, 13))
 MONTH_FULL_NAMES = tuple(calendar.month_name[m] for m in range(1, 13))
 
 #: Where PV energy goes: (figure key in Results.months, label), in stacking order.

@@ -20,21 +20,11 @@ from core.analyses.compare import Comparison, compare
 from core.analyses.options import OPTION_LABELS, Layout, with_option
 from core.errors import InputError
 from core.model.loads import base_load_w
-from core.present.figures import fmt_kwh, fmt_pct, fmt_years, headline_figures, secondary_figures
+from core.present.figures import headline_figures, secondary_figures
+from core.present.options_table import options_table
 from core.present.report_html import report_html
 from core.scenario import Scenario
 from core.simulate import SimulationResult
-
-#: (delta key, label) of the energy rows of the options table, kWh a year against the existing system.
-ENERGY_ROWS = (
-    ("to_loads_added_kwh", "More to the loads from PV"),
-    ("self_consumed_added_kwh", "More PV self-consumed"),
-    ("battery_discharge_added_kwh", "More from the battery"),
-    ("curtailed_added_kwh", "More curtailed"),
-    ("clipped_added_kwh", "More clipped"),
-    ("export_allowed_added_kwh", "More export within the limit"),
-    ("exported_uncontrolled_kwh", "Uncontrolled export"),
-)
 
 
 @dataclass(frozen=True)
@@ -55,29 +45,6 @@ def chosen_option(sc: Scenario, comparison: Comparison, option: str | None) -> s
         return option
     own = sc.expansion.coupling if sc.expansion is not None else None
     return own if own in comparison.options else (offered[0] if offered else "baseline")
-
-
-def options_table(comparison: Comparison) -> pd.DataFrame:
-    """Figures × options as text with units, against the existing system."""
-    opts = [k for k in comparison.options if k != "baseline"]
-    rows = [[f"{label} (kWh/yr)", *[fmt_kwh(comparison.options[k].delta[key],
-                                            signed=key != "exported_uncontrolled_kwh") for k in opts]]
-            for key, label in ENERGY_ROWS]
-    rows.append(["Hours with uncontrolled export (h/yr)",
-                 *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
-    cur = comparison.scenario.tariff.currency
-
-    def years(x: float | None) -> str:
-        return fmt_years(math.inf if x is None else x)
-
-    for label, get in ((f"Investment ({cur})", lambda e: f"{e.investment:,.0f}"),
-                       (f"First-year saving ({cur})", lambda e: f"{e.annual_saving:,.0f}"),
-                       ("Simple payback", lambda e: years(e.simple_payback_years)),
-                       ("Discounted payback", lambda e: years(e.discounted_payback_years)),
-                       (f"NPV ({cur})", lambda e: f"{e.npv:,.0f}"),
-                       ("IRR", lambda e: "—" if e.irr is None else fmt_pct(e.irr * 100.0))):
-        rows.append([label, *[get(comparison.options[k].economics) for k in opts]])
-    return pd.DataFrame(rows, columns=["Against the existing system", *[OPTION_LABELS[k] for k in opts]])
 
 
 def daytime_base_load_w(sc: Scenario, sim: SimulationResult, option: str) -> list[float]:
