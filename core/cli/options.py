@@ -70,7 +70,8 @@ def cmd_compare(args) -> int:
     from core.scenario import load_scenario
 
     sc = load_scenario(args.scenario)
-    if sc.expansion is None:
+    expansion = sc.expansion
+    if expansion is None:
         raise InputError("the scenario has no [expansion] section", file=args.scenario, where="expansion",
                          hint="add [expansion] with module, count, tilt_deg, azimuth_deg and a microinverter "
                               "and/or a controller")
@@ -101,7 +102,7 @@ def cmd_compare(args) -> int:
         from core.analyses.options import dc_layout_note
 
         print(f"{sc.name}: {layout.count} panel{'s' if layout.count != 1 else ''} at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
-        note = dc_layout_note(layout.count, sc.expansion.modules_per_string) if "dc" in out["options"] else None
+        note = dc_layout_note(layout.count, expansion.modules_per_string) if "dc" in out["options"] else None
         if note:
             print(note + "\n")
         print(format_comparison(out))
@@ -144,7 +145,7 @@ def cmd_check(args) -> int:
     if args.json:
         print(json.dumps([c.to_dict() for c in checks], indent=2))
         return EXIT_OK
-    from core.analyses.options import OPTION_LABELS
+    from core.analyses.options import OPTIONS, Option
 
     print(f"{sc.name}: design checks\n")
     marks = {"pass": "ok  ", "warn": "WARN", "fail": "FAIL"}
@@ -152,7 +153,7 @@ def cmd_check(args) -> int:
     for c in checks:
         if c.option != current:
             current = c.option
-            print(f"-- {OPTION_LABELS.get(c.option, c.option)}" + (" (what the expansion changes)"
+            print(f"-- {Option(c.option).label if c.option in OPTIONS else c.option}" + (" (what the expansion changes)"
                                                                   if c.option != "baseline" else ""))
         print(f"[{marks[c.status]}] {c.id}: {c.sentence}\n        source: {c.source}")
     cautions = list(dict.fromkeys(c.caution for c in checks if c.caution and c.status != "pass"))

@@ -17,7 +17,7 @@ import pandas as pd
 
 from core.analyses.checks import run_checks
 from core.analyses.compare import Comparison, compare
-from core.analyses.options import OPTION_LABELS, Layout, with_option
+from core.analyses.options import OPTION_LABELS, Layout, Option, with_option
 from core.errors import InputError
 from core.model.loads import base_load_w
 from core.present.figures import headline_figures, secondary_figures
@@ -63,7 +63,7 @@ def daytime_base_load_w(sc: Scenario, sim: SimulationResult, option: str) -> lis
 
 def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, str]]:
     """The what-if in words: the option, the panels and the plant settings the figures depend on."""
-    rows = [("Option", OPTION_LABELS[option])]
+    rows = [("Option", OPTION_LABELS[Option(option)])]
     e = sc.expansion
     if e is not None and option != "baseline":
         rows += [("Panels added", f"{layout.count} × {e.module} ({sc.modules[e.module].pmax_w:,.0f} W STC)"),
@@ -96,7 +96,7 @@ def scenario_report(sc: Scenario, *, option: str | None = None, layout: Layout |
     option_sc = with_option(sc, key, comparison.layout) if key != "baseline" else sc
     checks = run_checks(option_sc, sim, option=key)
     has_options = len(comparison.options) > 1
-    text = report_html(sim, baseline, option_label=OPTION_LABELS[key],
+    text = report_html(sim, baseline, option_label=OPTION_LABELS[Option(key)],
                        headline=headline_figures(sim.results, baseline.results, payback_years=payback),
                        more=secondary_figures(sim, baseline), base_load_w=daytime_base_load_w(sc, sim, key),
                        options=options_table(comparison) if has_options else None,

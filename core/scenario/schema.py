@@ -293,11 +293,11 @@ class Grid:
     restore_delay_s: float = field(default=0.0, metadata=_num(0, 3600))  # grid-only loads back after an interruption
 
     @property
-    def ac_control_mode(self) -> str:
+    def ac_control_mode(self) -> AcControl:
         """The way AC-coupled output is held back, from ``ac_control`` or its earlier name."""
         return self.ac_control or self.ac_export_control or "none"
 
-    def with_ac_control(self, mode: str) -> Grid:
+    def with_ac_control(self, mode: AcControl) -> Grid:
         """The same grid with another mode, written under the key the scenario already uses."""
         if self.ac_control is None and self.ac_export_control is not None:
             return dataclasses.replace(self, ac_export_control=mode)

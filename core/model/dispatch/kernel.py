@@ -7,6 +7,8 @@ arrays: ``compiled=False`` in the public functions runs the same code as plain P
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from typing import Any
 
 from core.model.battery import charge_limit_w, kibam_available_wh, kibam_limits_w
 from core.model.dispatch.records import AC_ISLANDED, AC_LIMITER, AC_RELAY, Flow, Load, Param, Source
@@ -385,6 +387,12 @@ def _batch(loads, src, up, par, inv_ac, inv_dc, out):
         _step_loop(loads, src[i], up[0] if shared_up else up[i], par, inv_ac, inv_dc, out[i])
     return out
 
+
+# Set below: numba's compiled dispatchers, or the plain functions when numba is missing.
+_compiled_kernel: Callable[..., Any]
+_compiled_batch: Callable[..., Any]
+_step_loop: Callable[..., Any]
+_prange: Callable[..., Any]
 
 try:  # compiled when numba is available; the plain functions stay reachable as _kernel and _batch
     import numba

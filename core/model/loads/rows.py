@@ -79,7 +79,7 @@ def _too_few_rows(book: _Rows, lines: np.ndarray, file: str, usable: int, time_l
                   value_label: str) -> None:
     counts, _ = book.summary()
     if counts:
-        worst = max(counts, key=counts.get)
+        worst = max(counts, key=counts.__getitem__)
         code = book.names.index(worst)
         row = int(lines[np.flatnonzero(book.reason == code)].min())
         raise InputError(f"only {usable} usable row(s); rejected: " +
