@@ -78,7 +78,7 @@ def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, 
     g = sc.grid
     export = f"allowed up to {g.export_limit_w:,.0f} W" if g.export_allowed else "zero export"
     rows += [("Standing draw", f"{g.standing_draw_w:,.0f} W"),
-             ("Export", f"{export}; AC export control: {g.ac_export_control}")]
+             ("Export", f"{export}; AC export control: {g.ac_control_mode}")]
     return rows
 
 
