@@ -29,6 +29,7 @@ __all__ = ["EXIT_BAD_INPUT", "EXIT_INTERNAL", "EXIT_OK", "build_parser", "format
 
 
 def main(argv: Sequence[str] | None = None) -> int:
+    """Run one subcommand (``argv`` as on the command line, default ``sys.argv[1:]``); return its exit code."""
     args = None
     previous = catch_termination()
     try:
