@@ -106,6 +106,8 @@ def face_array_power(site, sc: Scenario, array: Array, mo: pv.ModuleOutput, diff
     on it) is computed once per site and layout."""
     shade_cache = {} if shade_cache is None else shade_cache
     face = face_of(sc, array)
+    if face is None:
+        raise ValueError(f"array {array.name!r} has no face with a layout or shading; call this only for one that has")
     m = sc.modules[array.module]
     first, size = placement(sc, array)
     lay = layout_for(face, m, size)
@@ -162,12 +164,15 @@ def face_array_power(site, sc: Scenario, array: Array, mo: pv.ModuleOutput, diff
                           cells_in_series=m.cells_in_series)
     tracker = sc.simulation.mppt_tracker
     if array.coupling == "dc":
+        # the scenario reader makes a DC-coupled array name its controller and its strings
+        assert array.controller is not None and array.modules_per_string is not None and array.strings is not None
         c = sc.controllers[array.controller]
         groups = [list(range(s * array.modules_per_string, (s + 1) * array.modules_per_string))
                   for s in range(array.strings)]
         window = dict(v_min=c.mppt_min_v, v_max=c.mppt_max_v)
         mismatch = iv.STRING_MISMATCH
     else:
+        assert array.microinverter is not None  # the scenario reader makes an AC-coupled array name its unit
         mi = sc.microinverters[array.microinverter]
         groups = [[k] for k in range(n)]
         window = dict(v_min=mi.mppt_min_v, v_max=mi.mppt_max_v)

@@ -180,6 +180,6 @@ def _refuse_binary(text: str, file: str, line_word: str) -> None:
     found = _CONTROL.findall(head)
     if len(found) > max(2, len(head) // 1000):
         first = _CONTROL.search(head)
-        row = head[:first.start()].count("\n") + 1
+        row = head[:first.start()].count("\n") + 1 if first else 1
         raise InputError("looks like binary data, not a text table", file=file, where=f"{line_word} {row}",
                          hint="give comma-separated text (CSV)")

@@ -16,6 +16,8 @@ from core.errors import InputError
 #: The nominal year every source is aligned onto (not a leap year; 1 January is a Sunday).
 NOMINAL_YEAR = 2023
 HOURS_PER_YEAR = 8760
+#: Month abbreviations in English whatever the locale, for labels and messages.
+MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 #: Finest simulation step. A year at one minute is 525,600 steps (a few hundred MB of flows); at one second it
 #: would be 31.5 million (many GB), so finer readings are averaged to the step instead.
 MIN_STEP_S = 60
@@ -32,12 +34,13 @@ def standard_offset(timezone: str) -> dt.timezone:
     except (ZoneInfoNotFoundError, ValueError, OSError) as exc:  # OSError: "Europe" is a folder, or too long
         raise InputError(f"unknown time zone {str(timezone)[:60]!r}", where="site.timezone",
                          hint="use an IANA name such as 'America/New_York' or 'Europe/Berlin'") from exc
+    no_shift = dt.timedelta(0)  # a zoneinfo zone always gives both; the fallback only satisfies their Optional type
     for month in (1, 7):
         moment = dt.datetime(NOMINAL_YEAR, month, 15, 12, tzinfo=zone)
         if not moment.dst():
-            return dt.timezone(moment.utcoffset())
+            return dt.timezone(moment.utcoffset() or no_shift)
     moment = dt.datetime(NOMINAL_YEAR, 1, 15, 12, tzinfo=zone)
-    return dt.timezone(moment.utcoffset() - moment.dst())
+    return dt.timezone((moment.utcoffset() or no_shift) - (moment.dst() or no_shift))
 
 
 def nominal_index(step_s: int, tz: dt.tzinfo) -> pd.DatetimeIndex:

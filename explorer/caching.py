@@ -30,7 +30,7 @@ def _key(sc: Scenario, sections: tuple[str, ...], extra: dict | None = None) -> 
 
 def _stamps(sc: Scenario) -> dict:
     """Size and modification time of each data file, so that a file changed on disk is read again."""
-    out = {}
+    out: dict[str, tuple[int, int] | None] = {}
     for name, path in sc.data_files().items():
         try:
             st_ = path.stat()

@@ -10,7 +10,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from core.analyses.options import OPTION_LABELS, with_option
+from core.analyses.compare import Comparison
+from core.analyses.options import Option, with_option
 from core.present.figures import Headline, headline_figures, secondary_figures
 from core.scenario import Scenario
 
@@ -22,7 +23,7 @@ class PageModel:
     scenario: Scenario  # the controls applied, without the new panels as an array
     option: str  # the sidebar's coupling: ac_backed_up, ac_grid or dc
     option_scenario: Scenario  # the scenario with the new panels added as that option
-    comparison: object  # core.analyses.compare.Comparison of every applicable option
+    comparison: Comparison  # of every applicable option
     headline: tuple[Headline, ...]
     more: tuple[Headline, ...]
     # The design checks compare already ran: those whose outcome the option changes (or adds), and the existing
@@ -45,7 +46,7 @@ class PageModel:
 
     @property
     def label(self) -> str:
-        return OPTION_LABELS[self.option]
+        return Option(self.option).label
 
     @property
     def count(self) -> int:

@@ -10,8 +10,8 @@ from calibration_synthetic import make_record
 from test_calibration import site_with
 
 from core.analyses.calibration import calibrate
+from core.present import calibration_charts as cc
 from core.scenario import load_scenario
-from explorer import calibration_charts as cc
 
 TZ = dt.timezone(dt.timedelta(hours=-5))
 

@@ -11,8 +11,8 @@ from streamlit.testing.v1 import AppTest
 from core.analyses.design import search
 from core.analyses.design.rank import cost_energy_front
 from core.analyses.design.report import design_frame
+from core.present import design_charts
 from core.scenario import load_scenario
-from explorer import charts_design
 from explorer.views.design import controls_for
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -48,7 +48,7 @@ def test_frame_ranks_valid_designs_and_explains_invalid_ones(result):
 
 
 def test_scatter_spec(result):
-    spec = charts_design.design_scatter(design_frame(result), "USD").to_dict()
+    spec = design_charts.design_scatter(design_frame(result), "USD").to_dict()
     layers = spec["layer"]
     titles = {layer["encoding"]["x"]["title"] for layer in layers} | {layer["encoding"]["y"]["title"]
                                                                      for layer in layers}

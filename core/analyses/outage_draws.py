@@ -31,6 +31,8 @@ def draw_seed(seed: int, i: int):
 def grid_masks(sc: Scenario, site: SiteData, first: int, count: int) -> np.ndarray:
     """Grid-up masks of draws ``first … first + count − 1`` (shape count × steps)."""
     r = sc.grid.random_outages
+    if r is None:
+        raise ValueError("random outage years need grid.random_outages in the scenario")
     fixed = outages.grid_up_mask(site.index, outages.read_outages_csv(
         sc.resolve(sc.grid.outages_path, "grid.outages_path"), site.index.tz)) if sc.grid.outages_path else True
     return np.stack([fixed & outages.random_outage_mask(len(site.index), site.step_s, per_year=r.per_year,

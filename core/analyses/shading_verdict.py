@@ -7,7 +7,7 @@ bypassed substring by substring (common practice). The numbers come from each op
 
 from __future__ import annotations
 
-from core.analyses.options import EXPANSION_ARRAY, OPTION_LABELS
+from core.analyses.options import EXPANSION_ARRAY, Option
 from core.face_arrays import array_breakdown
 
 #: Shading losses that differ by less than this are not worth a sentence, kWh a year.
@@ -39,5 +39,5 @@ def shading_reason(results: dict, energy_winner: str | None) -> str | None:
     text = (f"Shading on the new panels' face costs them {string:.0f} kWh a year as one string and {micro:.0f} kWh "
             f"on microinverters: a shaded module on its own microinverter loses only itself")
     if energy_winner is not None and energy_winner.startswith("ac_"):
-        text += f", which is part of why {OPTION_LABELS[energy_winner]} wins"
+        text += f", which is part of why {Option(energy_winner).label} wins"
     return text + "."

@@ -14,59 +14,33 @@ import numpy as np
 import pandas as pd
 
 from core.model.metrics import ac_surplus_w
+from core.present.formats import (  # noqa: F401 - the formats are also reached through figures
+    fmt_hours,
+    fmt_kwh,
+    fmt_pct,
+    fmt_value,
+    fmt_w,
+    fmt_years,
+)
+from core.present.palette import (  # noqa: F401 - the palette is also reached through figures
+    BLACK,
+    BLUE,
+    BLUISH_GREEN,
+    DESTINATION_COLOURS,
+    DIVERGING_SCHEME,
+    GREY,
+    OPTION_COLOURS,
+    ORANGE,
+    REDDISH_PURPLE,
+    SEQUENTIAL_SCHEME,
+    SERIES_COLOURS,
+    SKY_BLUE,
+    STATUS_COLOURS,
+    VERMILLION,
+    YELLOW,
+)
+from core.timebase import MONTH_NAMES
 
-# ---------------------------------------------------------------------------------------------- colours
-# The Okabe–Ito palette, distinguishable under the common colour-vision deficiencies (Okabe & Ito, "Color
-# Universal Design", 2008; openly published). One meaning, one colour, in the explorer and the HTML report.
-BLACK = "#000000"
-ORANGE = "#E69F00"
-SKY_BLUE = "#56B4E9"
-BLUISH_GREEN = "#009E73"
-YELLOW = "#F0E442"
-BLUE = "#0072B2"
-VERMILLION = "#D55E00"
-REDDISH_PURPLE = "#CC79A7"
-GREY = "#8C8C8C"
-
-#: Where the PV energy goes.
-DESTINATION_COLOURS = {
-    "Used directly by the loads": BLUISH_GREEN,
-    "Into the battery": SKY_BLUE,
-    "Curtailed": ORANGE,
-    "Clipped": REDDISH_PURPLE,
-    "Exported": VERMILLION,
-}
-
-#: Powers over a day.
-SERIES_COLOURS = {
-    "Backed-up loads": BLACK,
-    "All loads": REDDISH_PURPLE,
-    "Daytime base load": GREY,
-    "AC-coupled PV output": ORANGE,
-    "DC-coupled PV output": BLUE,
-    "What the panels could make": SKY_BLUE,
-    "Curtailed or clipped": VERMILLION,
-    "Battery SOC": BLUISH_GREEN,
-}
-
-#: The expansion options, keyed by option (``core.analyses.options.OPTIONS``), never by their label: one mapping
-#: for every chart that tells the options apart.
-OPTION_COLOURS = {
-    "baseline": GREY,
-    "ac_backed_up": ORANGE,
-    "ac_grid": VERMILLION,
-    "dc": BLUE,
-}
-
-#: Check outcomes.
-STATUS_COLOURS = {"pass": BLUISH_GREEN, "warn": ORANGE, "fail": VERMILLION}
-
-#: Diverging map for "below / above the base load" (blue = under, orange = surplus), colour-blind safe.
-DIVERGING_SCHEME = "blueorange"
-#: Sequential map for amounts (viridis: perceptually uniform and colour-blind safe).
-SEQUENTIAL_SCHEME = "viridis"
-
-MONTH_NAMES = tuple(calendar.month_abbr[m] for m in range(1, 13))
 MONTH_FULL_NAMES = tuple(calendar.month_name[m] for m in range(1, 13))
 
 #: Where PV energy goes: (figure key in Results.months, label), in stacking order.
@@ -375,61 +349,3 @@ def ac_harvest_kwh(steps: pd.DataFrame, dt_h: float) -> float:
     """AC-coupled PV output that was used (by the loads or the charger) over the year (kWh): the year total
     ``ac_used`` of :func:`core.model.metrics.year_totals`, from a per-step table."""
     return float((steps["ac_backed_used_w"] + steps["ac_grid_used_w"]).sum() * dt_h / 1000.0)
-
-
-# ------------------------------------------------------------------------------------------------ formatting
-def fmt_kwh(x: float | None, *, signed: bool = False) -> str:
-    """A year's energy: no decimals, thousands separated (``1,234 kWh``)."""
-    if x is None or not np.isfinite(x):
-        return "—"
-    x = 0.0 if abs(x) < 0.5 else x
-    return f"{x:+,.0f} kWh" if signed else f"{x:,.0f} kWh"
-
-
-def fmt_w(x: float | None, *, signed: bool = False) -> str:
-    """A power: whole watts (``350 W``)."""
-    if x is None or not np.isfinite(x):
-        return "—"
-    x = 0.0 if abs(x) < 0.5 else x
-    return f"{x:+,.0f} W" if signed else f"{x:,.0f} W"
-
-
-def fmt_pct(x: float | None, *, signed: bool = False) -> str:
-    """A share in percent with one decimal (``12.3 %``); ``x`` is already in percent."""
-    if x is None or not np.isfinite(x):
-        return "—"
-    x = 0.0 if abs(x) < 0.05 else x
-    return f"{x:+.1f} %" if signed else f"{x:.1f} %"
-
-
-def fmt_hours(x: float | None) -> str:
-    """Hours: whole hours from 10 h up, one decimal below (``3.5 h``)."""
-    if x is None or not np.isfinite(x):
-        return "—"
-    return f"{x:,.0f} h" if x >= 10 else f"{x:.1f} h"
-
-
-def fmt_years(x: float | None, *, signed: bool = False) -> str:
-    """Years with one decimal; None is "—" (no figure), infinity "never within the period"."""
-    if x is None or np.isnan(x):
-        return "—"
-    if not np.isfinite(x):
-        return "not within the period"
-    return f"{x:+.1f} years" if signed else f"{x:.1f} years"
-
-
-def fmt_value(x: float | None, unit: str, *, signed: bool = False) -> str:
-    """Format by unit: ``kWh/yr`` and ``kWh`` as energy, ``W``, ``%``, ``h`` and ``years``."""
-    if unit.startswith("kWh"):
-        return fmt_kwh(x, signed=signed)
-    if unit == "W":
-        return fmt_w(x, signed=signed)
-    if unit == "%":
-        return fmt_pct(x, signed=signed)
-    if unit == "h":
-        return fmt_hours(x)
-    if unit == "years":
-        return fmt_years(x, signed=signed)
-    if unit == "cycles/yr":
-        return "—" if x is None else (f"{x:+,.0f} cycles" if signed else f"{x:,.0f} cycles")
-    return "—" if x is None else f"{x:,.1f} {unit}"

@@ -17,24 +17,14 @@ import pandas as pd
 
 from core.analyses.checks import run_checks
 from core.analyses.compare import Comparison, compare
-from core.analyses.options import OPTION_LABELS, Layout, with_option
+from core.analyses.options import OPTION_LABELS, Layout, Option, with_option
 from core.errors import InputError
 from core.model.loads import base_load_w
-from core.present.figures import fmt_kwh, fmt_pct, fmt_years, headline_figures, secondary_figures
+from core.present.figures import headline_figures, secondary_figures
+from core.present.options_table import options_table
 from core.present.report_html import report_html
 from core.scenario import Scenario
 from core.simulate import SimulationResult
-
-#: (delta key, label) of the energy rows of the options table, kWh a year against the existing system.
-ENERGY_ROWS = (
-    ("to_loads_added_kwh", "More to the loads from PV"),
-    ("self_consumed_added_kwh", "More PV self-consumed"),
-    ("battery_discharge_added_kwh", "More from the battery"),
-    ("curtailed_added_kwh", "More curtailed"),
-    ("clipped_added_kwh", "More clipped"),
-    ("export_allowed_added_kwh", "More export within the limit"),
-    ("exported_uncontrolled_kwh", "Uncontrolled export"),
-)
 
 
 @dataclass(frozen=True)
@@ -57,29 +47,6 @@ def chosen_option(sc: Scenario, comparison: Comparison, option: str | None) -> s
     return own if own in comparison.options else (offered[0] if offered else "baseline")
 
 
-def options_table(comparison: Comparison) -> pd.DataFrame:
-    """Figures × options as text with units, against the existing system."""
-    opts = [k for k in comparison.options if k != "baseline"]
-    rows = [[f"{label} (kWh/yr)", *[fmt_kwh(comparison.options[k].delta[key],
-                                            signed=key != "exported_uncontrolled_kwh") for k in opts]]
-            for key, label in ENERGY_ROWS]
-    rows.append(["Hours with uncontrolled export (h/yr)",
-                 *[f"{comparison.options[k].delta['exported_uncontrolled_hours']:,.0f} h" for k in opts]])
-    cur = comparison.scenario.tariff.currency
-
-    def years(x: float | None) -> str:
-        return fmt_years(math.inf if x is None else x)
-
-    for label, get in ((f"Investment ({cur})", lambda e: f"{e.investment:,.0f}"),
-                       (f"First-year saving ({cur})", lambda e: f"{e.annual_saving:,.0f}"),
-                       ("Simple payback", lambda e: years(e.simple_payback_years)),
-                       ("Discounted payback", lambda e: years(e.discounted_payback_years)),
-                       (f"NPV ({cur})", lambda e: f"{e.npv:,.0f}"),
-                       ("IRR", lambda e: "—" if e.irr is None else fmt_pct(e.irr * 100.0))):
-        rows.append([label, *[get(comparison.options[k].economics) for k in opts]])
-    return pd.DataFrame(rows, columns=["Against the existing system", *[OPTION_LABELS[k] for k in opts]])
-
-
 def daytime_base_load_w(sc: Scenario, sim: SimulationResult, option: str) -> list[float]:
     """Twelve monthly daytime base loads (W) of the loads the option's AC-coupled output meets first: all loads
     with site metering; with inverter metering the grid-only loads for the grid side, else the backed-up ones."""
@@ -96,7 +63,7 @@ def daytime_base_load_w(sc: Scenario, sim: SimulationResult, option: str) -> lis
 
 def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, str]]:
     """The what-if in words: the option, the panels and the plant settings the figures depend on."""
-    rows = [("Option", OPTION_LABELS[option])]
+    rows = [("Option", OPTION_LABELS[Option(option)])]
     e = sc.expansion
     if e is not None and option != "baseline":
         rows += [("Panels added", f"{layout.count} × {e.module} ({sc.modules[e.module].pmax_w:,.0f} W STC)"),
@@ -111,7 +78,7 @@ def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, 
     g = sc.grid
     export = f"allowed up to {g.export_limit_w:,.0f} W" if g.export_allowed else "zero export"
     rows += [("Standing draw", f"{g.standing_draw_w:,.0f} W"),
-             ("Export", f"{export}; AC export control: {g.ac_export_control}")]
+             ("Export", f"{export}; AC export control: {g.ac_control_mode}")]
     return rows
 
 
@@ -129,7 +96,7 @@ def scenario_report(sc: Scenario, *, option: str | None = None, layout: Layout |
     option_sc = with_option(sc, key, comparison.layout) if key != "baseline" else sc
     checks = run_checks(option_sc, sim, option=key)
     has_options = len(comparison.options) > 1
-    text = report_html(sim, baseline, option_label=OPTION_LABELS[key],
+    text = report_html(sim, baseline, option_label=OPTION_LABELS[Option(key)],
                        headline=headline_figures(sim.results, baseline.results, payback_years=payback),
                        more=secondary_figures(sim, baseline), base_load_w=daytime_base_load_w(sc, sim, key),
                        options=options_table(comparison) if has_options else None,

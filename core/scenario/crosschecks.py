@@ -84,8 +84,8 @@ def cross_check(sc: Scenario, r: Reader) -> None:
             r.fail(f"controllers.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
     for name, m in sc.modules.items():
         _check_datasheet(name, m, r)
-    for name, m in sc.microinverters.items():
-        if m.mppt_min_v >= m.mppt_max_v:
+    for name, mi in sc.microinverters.items():
+        if mi.mppt_min_v >= mi.mppt_max_v:
             r.fail(f"microinverters.{name}.mppt_min_v", "the MPPT window is empty (min ≥ max)")
     eff = sc.inverter_charger.efficiency
     if isinstance(eff, tuple):

@@ -54,7 +54,7 @@ class Reader:
             options = [a for a in args if a is not type(None)]
             if len(options) == 1:
                 return self.value(options[0], raw, where, meta)
-            errors = []
+            errors: list[InputError] = []
             for option in options:  # e.g. a number or a curve
                 try:
                     return self.value(option, raw, where, meta)
@@ -88,7 +88,7 @@ class Reader:
                 self.fail(where, "expected a table of named entries", f"write [{where}.NAME] sections")
             # Named sections ([modules.NAME]) or plain named values (measured.pv = {"south" = "pv1_kwh"}).
             return {name: self.value(args[1], sub, f"{where}.{name}", {}) for name, sub in raw.items()}
-        if dataclasses.is_dataclass(tp):
+        if isinstance(tp, type) and dataclasses.is_dataclass(tp):
             return self.build(tp, raw, where)
         if tp is bool:
             if not isinstance(raw, bool):

@@ -54,7 +54,7 @@ def parse_scenario(text: str, *, file: str | None = None, base_dir: Path | None 
 def _absolute_paths(sc: Scenario) -> Scenario:
     """Store every file path resolved (and confinement-checked), so equal scenarios compare equal
     wherever their files were saved."""
-    sections = {}
+    sections: dict[str, dict[str, str]] = {}
     for section, key in PATH_KEYS:
         value = getattr(getattr(sc, section), key, None)  # optional sections ([measured]) may be absent
         if value is not None:

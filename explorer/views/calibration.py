@@ -3,7 +3,7 @@ puts them into the what-if.
 
 The export is the scenario's ``[measured]`` file, or one uploaded on the data-files tab (:func:`render_upload`).
 The work itself is :func:`core.analyses.calibration.calibrate`; the charts are pure builders in
-:mod:`explorer.calibration_charts`.
+:mod:`core.present.calibration_charts`.
 """
 
 from __future__ import annotations
@@ -15,10 +15,11 @@ import pandas as pd
 import streamlit as st
 
 from core.analyses.calibration import GUIDELINE_14, calibrate
+from core.present import calibration_charts
 from core.scenario import Measured, Scenario
 from core.simulate import site_timezone
 from core.timebase import standard_offset
-from explorer import calibration_charts, charts, state
+from explorer import charts, state
 from explorer.guard import section
 
 UPLOAD_KEY = "calibration_upload"

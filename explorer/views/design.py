@@ -7,7 +7,8 @@ import streamlit as st
 
 from core.analyses.design import search
 from core.analyses.design.report import design_frame
-from explorer import caching, charts, charts_design
+from core.present import design_charts
+from explorer import caching, charts
 
 #: The what-if controls' session keys (explorer.views.controls) that a loaded design sets.
 _COUPLING = {"backed_up": "ac_backed_up", "grid": "ac_grid"}
@@ -96,7 +97,7 @@ def render(m) -> None:
         "Added self-consumed (kWh/yr)": st.column_config.NumberColumn(format="%.0f"),
         "Added curtailed (kWh/yr)": st.column_config.NumberColumn(format="%.0f")})
     if result.valid:
-        charts.draw(charts_design.design_scatter(design_frame(result), cur))
+        charts.draw(design_charts.design_scatter(design_frame(result), cur))
         ids = [d.id for d in result.valid]
         chosen = st.selectbox("Try a design with the what-if controls", ids, key="design_pick",
                               format_func=lambda i: f"{i}: {result.get(i).candidate.words()}")

@@ -12,11 +12,9 @@ from __future__ import annotations
 import math
 
 from core.analyses.checks.common import CAUTION_AC, CAUTION_BATTERY, Check
+from core.analyses.validity import EXPORT_EPS_KWH
 from core.model import metrics
 from core.scenario import Array, Scenario
-
-#: Export energy below which a year counts as export-free (rounding of the engine's sums), kWh.
-EXPORT_EPS_KWH = 1e-3
 
 
 def ac_rating_w(sc: Scenario, array: Array) -> float:

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core.analyses.checks.common import CAUTION_STRUCTURE, Check
+from core.analyses.checks.common import CAUTION_STRUCTURE, Check, Status
 from core.errors import InputError
 from core.model.pv import row_shaded_fraction  # noqa: F401 - the physics lives in the PV leaf
 
@@ -178,7 +178,7 @@ def spacing_checks(sc, sim=None) -> list[Check]:
                                        geo.apparent_zenith_deg, geo.azimuth_deg, tilt_deg=a.tilt_deg,
                                        azimuth_deg=a.azimuth_deg, length_m=length, pitch_m=a.row_pitch_m)
         short = gap < rule.gap_m - 1e-9
-        status = "warn" if short or (loss is not None and loss > SHADING_LOSS_WARN) else "pass"
+        status: Status = "warn" if short or (loss is not None and loss > SHADING_LOSS_WARN) else "pass"
         lost = "" if loss is None else f"; over the year the row in front takes {loss * 100:.1f} % of the irradiance"
         checks.append(Check(
             id="spacing.rows", status=status, value=round(gap, 3), limit=round(rule.gap_m, 3), unit="m",

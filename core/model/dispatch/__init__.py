@@ -88,7 +88,9 @@ def _rows(arrays, names, n: int) -> np.ndarray:
 
 
 def _tables(p: DispatchParams) -> tuple[np.ndarray, np.ndarray]:
-    return tuple(np.ascontiguousarray(getattr(p, name), dtype=float) for name in _TABLES)
+    """The inverter table (AC output against DC input) as two C-ordered float arrays, in the kernel's order."""
+    inv_ac, inv_dc = (np.ascontiguousarray(getattr(p, name), dtype=float) for name in _TABLES)
+    return inv_ac, inv_dc
 
 
 def dispatch(inputs: DispatchInputs, params: DispatchParams, *, compiled: bool = True) -> DispatchResult:

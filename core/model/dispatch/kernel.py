@@ -7,37 +7,12 @@ arrays: ``compiled=False`` in the public functions runs the same code as plain P
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from typing import Any
 
 from core.model.battery import charge_limit_w, kibam_available_wh, kibam_limits_w
+from core.model.dispatch.interp import _interp
 from core.model.dispatch.records import AC_ISLANDED, AC_LIMITER, AC_RELAY, Flow, Load, Param, Source
-
-
-def _interp(x, xp, fp):
-    """``np.interp`` for one number on a rising table, step for step as NumPy computes it.
-
-    The same binary search, the same slope ``(fp[j+1] - fp[j]) / (xp[j+1] - xp[j])`` and the same
-    ``slope * (x - xp[j]) + fp[j]``, ends held flat; written out because NumPy's general routine costs more
-    than the rest of a step when it is called for one number (docs/performance.md).
-    """
-    if x != x:  # NaN passes through, as in NumPy
-        return x
-    last = xp.shape[0] - 1
-    if x <= xp[0]:
-        return fp[0]
-    if x >= xp[last]:
-        return fp[last]
-    lo = 0
-    hi = last
-    while hi - lo > 1:  # xp[lo] <= x < xp[hi]
-        mid = (lo + hi) >> 1
-        if xp[mid] <= x:
-            lo = mid
-        else:
-            hi = mid
-    if xp[lo] == x:
-        return fp[lo]
-    slope = (fp[lo + 1] - fp[lo]) / (xp[lo + 1] - xp[lo])
-    return slope * (x - xp[lo]) + fp[lo]
 
 
 def _serve(want_ac, dc_avail, dis_room, inv_ac, inv_dc):
@@ -385,6 +360,12 @@ def _batch(loads, src, up, par, inv_ac, inv_dc, out):
         _step_loop(loads, src[i], up[0] if shared_up else up[i], par, inv_ac, inv_dc, out[i])
     return out
 
+
+# Set below: numba's compiled dispatchers, or the plain functions when numba is missing.
+_compiled_kernel: Callable[..., Any]
+_compiled_batch: Callable[..., Any]
+_step_loop: Callable[..., Any]
+_prange: Callable[..., Any]
 
 try:  # compiled when numba is available; the plain functions stay reachable as _kernel and _batch
     import numba

@@ -7,8 +7,10 @@ Indices are ``IntEnum`` members generated from the lists (:data:`FLOWS`, the fie
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, fields
 from enum import IntEnum
+from typing import Any
 
 import numpy as np
 
@@ -36,9 +38,16 @@ FLOWS = (
 )
 _F = {name: i for i, name in enumerate(FLOWS)}
 
+
+def _index_enum(name: str, names: Sequence[str]) -> Any:
+    """An IntEnum of ``names`` numbered from 0. Typed ``Any``: its members are generated at run time from a list,
+    which a static checker cannot see."""
+    return IntEnum(name, {n: i for i, n in enumerate(names)})
+
+
 #: Row indices of the flows, generated from FLOWS (``Flow.soc_wh`` is 0): the compiled kernel reads them as
 #: constants, and a flow added to FLOWS gets its index without anyone keeping a second list in step.
-Flow = IntEnum("Flow", _F)
+Flow = _index_enum("Flow", FLOWS)
 
 
 @dataclass(frozen=True)
@@ -91,7 +100,7 @@ AC_CONTROL_CODES = {"none": AC_NONE, "limiter": AC_LIMITER, "islanded": AC_ISLAN
 
 _PARAM_NAMES = tuple(f.name for f in fields(DispatchParams) if f.name not in _TABLES)
 #: Positions of the scalar parameters in the packed record, generated from DispatchParams' fields.
-Param = IntEnum("Param", {name: i for i, name in enumerate(_PARAM_NAMES)})
+Param = _index_enum("Param", _PARAM_NAMES)
 
 
 @dataclass(frozen=True)
@@ -112,8 +121,8 @@ class DispatchInputs:
 #: per variant), in the order of the rows the kernel reads them from.
 LOADS = ("load_backed_w", "load_grid_only_w", "charge_window")
 SOURCES = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
-Load = IntEnum("Load", {name: i for i, name in enumerate(LOADS)})
-Source = IntEnum("Source", {name: i for i, name in enumerate(SOURCES)})
+Load = _index_enum("Load", LOADS)
+Source = _index_enum("Source", SOURCES)
 
 
 @dataclass(frozen=True)

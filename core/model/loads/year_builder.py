@@ -50,13 +50,12 @@ import pandas as pd
 
 from core.errors import InputError
 from core.model.loads.quality import json_ready
-from core.timebase import NOMINAL_YEAR, nominal_index
+from core.timebase import MONTH_NAMES, NOMINAL_YEAR, nominal_index
 
 MIN_DAYS = 21
 #: The shortest record taken when all twelve monthly totals are given (one week: weekdays and a weekend).
 MIN_DAYS_WITH_BILLS = 7
 MONTH_DAYS = (31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
-MONTH_NAMES = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 _CUM_DAYS = np.concatenate([[0], np.cumsum(MONTH_DAYS)])
 #: A fully measured month differing from its bill by more than this share is reported.
 BILL_MISMATCH = 0.10

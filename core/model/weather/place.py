@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
+from typing import overload
 
 import numpy as np
 
@@ -35,6 +36,10 @@ def timezone_for(latitude: float, longitude: float) -> str:
     return f"Etc/GMT{'-' if hours > 0 else '+'}{abs(hours)}"
 
 
+@overload
+def as_standard_tz(tz: dt.tzinfo | str) -> dt.timezone: ...
+@overload
+def as_standard_tz(tz: None) -> None: ...
 def as_standard_tz(tz: dt.tzinfo | str | None) -> dt.timezone | None:
     """The fixed-offset *standard* time zone for ``tz`` (an IANA name, a zoneinfo zone or a fixed offset)."""
     if tz is None:

@@ -1,4 +1,4 @@
-"""Chart builder for the design search: a pure function from :func:`core.analyses.design.report.design_frame`'s
+"""Chart builder of the design search: a pure function from :func:`core.analyses.design.report.design_frame`'s
 table to an Altair chart (tested without Streamlit)."""
 
 from __future__ import annotations
@@ -6,10 +6,11 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
-from explorer.charts import HEIGHT, WIDTH, _legend
+from core.present.charts import HEIGHT, WIDTH, _legend
+from core.present.palette import BLUE, BLUISH_GREEN, ORANGE
 
 #: Our own colours for the kinds of design (Okabe–Ito, colour-blind safe, as the other charts).
-KIND_COLOURS = {"dc": "#0072B2", "ac": "#E69F00", "dc+ac": "#009E73"}
+KIND_COLOURS = {"dc": BLUE, "ac": ORANGE, "dc+ac": BLUISH_GREEN}
 KIND_LABELS = {"dc": "DC-coupled only", "ac": "AC-coupled only", "dc+ac": "DC and AC parts"}
 
 

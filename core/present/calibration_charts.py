@@ -10,7 +10,7 @@ import altair as alt
 import numpy as np
 import pandas as pd
 
-from core.present import figures as palette
+from core.present import palette
 
 #: Colours of the two model states and of the measurement (Okabe–Ito, shared with the other charts).
 FIT_COLOURS = {"measured": palette.BLACK, "model before the fit": palette.ORANGE,

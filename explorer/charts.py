@@ -2,7 +2,7 @@
 :func:`draw`, which puts one on the page.
 
 The builders live in ``core`` so that the HTML report renders the very same charts; only drawing needs
-Streamlit. The views reach this module as ``explorer.charts`` (see ``explorer/__init__.py``).
+Streamlit.
 """
 
 from __future__ import annotations
