@@ -295,6 +295,13 @@ def _cmd_compare(args) -> int:
         sc = sc.replace(grid=dataclasses.replace(sc.grid, ac_export_control=args.export_control))
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
     comparison = compare(sc, layout, progress=progress)
+    if sc.design is not None:  # the verdict names the design to pick and only fixes the search has checked
+        from core.analyses.design import search
+        from core.analyses.design_verdict import with_design
+
+        found = search(sc, site=comparison.options["baseline"].simulation.site, cache=None,
+                       progress=stderr_progress("design search") if progress else None)
+        comparison = with_design(comparison, found)
     out = comparison.to_dict()
     if args.draws is None or args.draws > 0:
         from core.analyses.outage_draws import options_spread

@@ -103,9 +103,13 @@ class Verdict:
     money: str | None
     text: str
     reasons: tuple[str, ...]
+    # The design search's best valid design (its id), when the verdict was made with a search
+    # (core.analyses.design_verdict.with_design); None without one.
+    design: str | None = None
 
     def to_dict(self) -> dict:
-        return {"energy": self.energy, "money": self.money, "text": self.text, "reasons": list(self.reasons)}
+        return {"energy": self.energy, "money": self.money, "text": self.text, "reasons": list(self.reasons),
+                "design": self.design}
 
 
 @dataclass(frozen=True)
@@ -377,4 +381,4 @@ def _charge_window_reason(sc: Scenario, base: SimulationResult) -> str:
 
 
 def _with_reason(v: Verdict, reason: str) -> Verdict:
-    return Verdict(energy=v.energy, money=v.money, text=f"{v.text} {reason}".strip(), reasons=(*v.reasons, reason))
+    return dataclasses.replace(v, text=f"{v.text} {reason}".strip(), reasons=(*v.reasons, reason))

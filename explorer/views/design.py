@@ -47,14 +47,38 @@ def report_summary(sc) -> dict | None:
     return search_summary(stored["result"])
 
 
+def search_key(sc) -> str:
+    """What a search depends on: the site and every section the designs are built from."""
+    return caching.site_key(sc) + repr((sc.faces, sc.design, sc.expansion, sc.arrays, sc.battery, sc.grid,
+                                        sc.tariff, sc.controllers, sc.microinverters, sc.modules))
+
+
+def current_search(sc):
+    """The stored search when it was run on exactly these settings (else None): what the Options tab reuses."""
+    stored = st.session_state.get("design_result")
+    return stored["result"] if stored and stored["key"] == search_key(sc) else None
+
+
+def run_search(sc):
+    """Run the search with a progress bar, store it for both tabs and the report, and return it."""
+    bar = st.progress(0.0, text="Preparing the search…")
+
+    def progress(fraction: float, message: str) -> None:
+        bar.progress(min(max(fraction, 0.0), 1.0), text=f"Search: {message}")
+
+    result = search(sc, site=caching.site_data(sc), cache=caching.orientation_cache(sc), progress=progress)
+    bar.empty()
+    st.session_state["design_result"] = {"key": search_key(sc), "result": result}
+    return result
+
+
 def render(m) -> None:
     """The view of the page model ``m``: the search runs on the scenario of the controls, on a button."""
     sc = m.scenario
     if sc.design is None and sc.expansion is None:
         st.info("Add [[faces]] and a [design] section (or an [expansion]) to the scenario to search its designs.")
         return
-    key = caching.site_key(sc) + repr((sc.faces, sc.design, sc.expansion, sc.arrays, sc.battery, sc.grid,
-                                       sc.tariff, sc.controllers, sc.microinverters, sc.modules))
+    key = search_key(sc)
     left, right = st.columns([4, 1.3], vertical_alignment="bottom")
     left.markdown("Every arrangement of the new modules that the roof faces and the candidate controllers and "
                   "microinverters allow: re-strung with the existing modules, on a controller of their own, on "
@@ -63,15 +87,8 @@ def render(m) -> None:
     run = right.button("Search the designs", type="primary", key="design_run")
     stored = st.session_state.get("design_result")
     if run:
-        bar = st.progress(0.0, text="Preparing the search…")
-
-        def progress(fraction: float, message: str) -> None:
-            bar.progress(min(max(fraction, 0.0), 1.0), text=f"Search: {message}")
-
-        result = search(sc, site=caching.site_data(sc), cache=caching.orientation_cache(sc), progress=progress)
-        bar.empty()
-        stored = {"key": key, "result": result}
-        st.session_state["design_result"] = stored
+        run_search(sc)
+        stored = st.session_state["design_result"]
     if not stored or stored["result"].scenario.name != sc.name:
         st.info("Press *Search the designs* to try every arrangement (a few seconds).")
         return
