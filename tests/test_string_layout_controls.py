@@ -90,7 +90,7 @@ def test_sidebar_restring_and_load_a_restrung_design(monkeypatch):
     at.radio(key="c_option").set_value("dc").run()
     _ok(at)
     choices = at.selectbox(key="c_restring").options
-    assert any("Re-string with 'south slope'" in o for o in choices)
+    assert any("Re-string 'south slope'" in o for o in choices)
     # the search's best DC design on this site re-strings the existing array: load it into the controls
     at = _tab(at, "Best layouts")
     at.button(key="design_run").click().run()
@@ -115,3 +115,14 @@ def test_sidebar_restring_and_load_a_restrung_design(monkeypatch):
     dc = compare(state.build_scenario(sc, c), options=("dc",)).options["dc"]
     # metrics.delta's self-consumed (Luthander et al. 2015) equals the search's for the same arrangement
     assert dc.delta["self_consumed_added_kwh"] == pytest.approx(best.added["self_consumed_kwh"], rel=1e-6, abs=1e-3)
+
+
+def test_choosing_to_restring_starts_from_the_arrays_own_length(monkeypatch):
+    at = _app(monkeypatch)
+    at.radio(key="c_option").set_value("dc").run()
+    assert at.session_state["c_per"] == 2  # the file's [expansion] modules_per_string
+    at.selectbox(key="c_restring").set_value("south roof").run()
+    _ok(at)
+    assert at.session_state["c_per"] == 3  # 'south roof' is wired as 2 strings of 3
+    # 6 existing + 2 new = 8 form no equal strings of 3: the note names what is simulated instead
+    assert any("8 modules do not form equal strings of 3" in c.value for c in at.caption)

@@ -16,6 +16,7 @@ from __future__ import annotations
 import dataclasses
 
 from core.analyses.compare import Comparison
+from core.analyses.design.strings import describe
 from core.analyses.options import OPTION_LABELS, Option
 
 #: The verdict's sentence that :func:`with_design` replaces: the generic fix for uncontrolled export.
@@ -56,7 +57,7 @@ def changes(design, sc, asked: int, faces: dict | None = None) -> list[str]:
         else:
             if p.restrung:
                 out.append(f"re-stringing: the {p.existing_modules} modules of '{p.restrung}' and the new ones "
-                           f"re-wired as {p.strings} × {p.modules_per_string}")
+                           f"re-wired as {describe(p.modules_per_string, p.strings)}")
             elif p.joins:
                 out.append(f"new strings of {p.modules_per_string} in parallel with '{p.joins}'")
             elif e is not None and e.modules_per_string and p.modules_per_string != e.modules_per_string:

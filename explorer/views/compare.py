@@ -36,7 +36,7 @@ def render(m) -> None:
         # fixes and the money winner are the answer; the rest explains it
         first, *why = v.reasons or (v.text,)
         shown = [r for r in why if r.startswith(("Set aside", "Uncontrolled export is", "On money", CHECKED_FIX,
-                                                 NO_FIX, "On energy"))]
+                                                 NO_FIX, "On energy", "No option passes"))]
         why = [r for r in why if r not in shown]
         st.markdown(first)
         for r in shown:

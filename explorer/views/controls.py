@@ -137,10 +137,21 @@ def _strings_changed(existing: int, top: int) -> None:
     ss["c_count"] = int(min(max(total - existing, 0), top))
 
 
+def _wiring_changed(sc: Scenario) -> None:
+    # A callback: re-stringing starts from the array's own length, strings of their own from the file's.
+    ss = st.session_state
+    name = ss.get("c_restring")
+    old = next((a for a in sc.arrays if a.name == name), None)
+    per = old.modules_per_string if old is not None else state.controls_from_scenario(sc).modules_per_string
+    if per:
+        ss["c_per"] = int(per)
+
+
 def string_layout(sc: Scenario, module: str, count: int) -> tuple[str | None, int | None, str | None]:
     """The DC-coupled option's string layout: re-string an existing array or not, the controller, modules per
     string and strings (strings × modules per string sets the panels added); returns (controller, modules per
     string, array re-strung)."""
+    from core.analyses.design.strings import describe
     from core.analyses.options import dc_layout_note, dc_string_layout
 
     ss = st.session_state
@@ -151,10 +162,11 @@ def string_layout(sc: Scenario, module: str, count: int) -> tuple[str | None, in
 
     def what(name: str | None) -> str:
         if name is None:
-            return "New strings of their own"
-        return f"Re-string with '{name}' ({state.existing_modules(sc, name)} modules)"
+            return "Strings of their own"
+        return f"Re-string '{name}' ({state.existing_modules(sc, name)})"
 
-    restring = st.selectbox("Wiring", choices, format_func=what, key="c_restring",
+    restring = st.selectbox("Wiring", choices, format_func=what, key="c_restring", on_change=_wiring_changed,
+                            args=(sc,),
                             help="Re-string: the existing array's modules and the new ones re-wired together as "
                                  "equal strings on that array's controller and face (the tilt and azimuth above do "
                                  "not apply). Otherwise the new modules form strings of their own on the controller "
@@ -167,8 +179,10 @@ def string_layout(sc: Scenario, module: str, count: int) -> tuple[str | None, in
         controller = st.selectbox("Controller", names, key="c_controller", format_func=lambda n: (
             f"{n} ({sc.controllers[n].max_pv_voltage_v:,.0f} V, {sc.controllers[n].max_input_current_a:,.0f} A)"))
     else:
-        controller = next(a.controller for a in sc.arrays if a.name == restring)
-        st.caption(f"On {controller}, the controller of '{restring}'.")
+        old = next(a for a in sc.arrays if a.name == restring)
+        controller = old.controller
+        st.caption(f"On {controller} and the face of '{restring}' ({old.tilt_deg:.0f}° tilt, {old.azimuth_deg:.0f}° "
+                   "azimuth): the tilt and azimuth above do not apply.")
     if not isinstance(ss.get("c_per"), int) or not 1 <= ss["c_per"] <= 100:
         ss["c_per"] = int(state.controls_from_scenario(sc).modules_per_string or max(count + existing, 1))
     total = count + existing
@@ -186,5 +200,5 @@ def string_layout(sc: Scenario, module: str, count: int) -> tuple[str | None, in
         if note:
             st.caption(note)
         elif restring:
-            st.caption(f"All {total} modules ({existing} existing, {count} new) as {n} × {p}.")
+            st.caption(f"All {total} modules ({existing} existing, {count} new) as {describe(p, n)}.")
     return controller, int(per), restring
