@@ -22,7 +22,11 @@ def render(m) -> None:
         st.info("The scenario's [expansion] allows no option to compare.")
         return
     lay = comparison.layout
-    st.markdown(f"**{lay.count} panel{'s' if lay.count != 1 else ''} at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth**, each way of "
+    e = m.scenario.expansion
+    where = f"at {lay.tilt_deg:.0f}° tilt, {lay.azimuth_deg:.0f}° azimuth"
+    if e is not None and e.restring:  # DC-coupled, they go where the re-strung array is
+        where += f" (DC-coupled: re-strung with '{e.restring}', on its face)"
+    st.markdown(f"**{lay.count} panel{'s' if lay.count != 1 else ''} {where}**, each way of "
                 f"connecting them against the existing system. The sidebar's choice, "
                 f"*{OPTION_LABELS[chosen]}*, is the one in the headline figures.")
     searchable = m.scenario.design is not None or bool(m.scenario.faces)
