@@ -319,9 +319,9 @@ def _cmd_compare(args) -> int:
         from core.analyses.options import dc_layout_note, restring_note
 
         print(f"{sc.name}: {layout.count} panel{'s' if layout.count != 1 else ''} at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
-        note = None if "dc" not in out["options"] else (
-            restring_note(sc, layout.count) if sc.expansion.restring
-            else dc_layout_note(layout.count, sc.expansion.modules_per_string))
+        e = sc.expansion
+        note = None if "dc" not in out["options"] or e is None else (
+            restring_note(sc, layout.count) if e.restring else dc_layout_note(layout.count, e.modules_per_string))
         if note:
             print(note + "\n")
         print(format_comparison(out))
