@@ -196,6 +196,9 @@ MEANINGS: dict[str, str] = {
                               "array uses (added); without it the DC option is not compared.",
     "[expansion] modules_per_string": "DC-coupled option: modules in series per string.",
     "[expansion] strings": "DC-coupled option: strings in parallel.",
+    "[expansion] restring": "DC-coupled option: the name of an existing DC-coupled array of the same module whose "
+                            "modules are re-wired with the new ones as `modules_per_string` in series, on that "
+                            "array's controller and face.",
     "[expansion] cost_ac": "Cost of the whole AC-coupled expansion at `count` panels; scaled per panel for "
                            "other counts.",
     "[expansion] cost_dc": "Cost of the whole DC-coupled expansion at `count` panels; scaled per panel.",

@@ -55,6 +55,24 @@ class Controls:
     outages: str  # one of OUTAGE_MODES
     outages_per_year: float
     outage_mean_hours: float
+    # The DC-coupled option's string layout: the controller of new strings of their own, modules in series, and the
+    # existing DC array re-wired with the new modules (None: new strings of their own). None keeps the file's.
+    controller: str | None = None
+    modules_per_string: int | None = None
+    restring: str | None = None
+
+
+def restring_choices(sc: Scenario, module: str) -> tuple[str, ...]:
+    """Existing DC-coupled arrays the new modules could be re-wired with: those of the same module."""
+    if module not in sc.modules:
+        return ()
+    return tuple(a.name for a in sc.arrays if a.coupling == "dc" and a.module_count > 0 and a.module in sc.modules
+                 and sc.modules[a.module] == sc.modules[module])
+
+
+def existing_modules(sc: Scenario, restring: str | None) -> int:
+    """Modules of the array re-wired with the new ones (0 when none is)."""
+    return next((a.module_count for a in sc.arrays if a.name == restring), 0) if restring else 0
 
 
 def option_choices(sc: Scenario) -> tuple[str, ...]:
@@ -107,7 +125,20 @@ def controls_from_scenario(sc: Scenario, option: str | None = None) -> Controls:
         outages="scenario" if "scenario" in outage_modes(sc) else "none",
         outages_per_year=float(random.per_year) if random else DEFAULT_OUTAGES_PER_YEAR,
         outage_mean_hours=float(random.mean_hours) if random else DEFAULT_OUTAGE_HOURS,
+        controller=e.controller if e else None,
+        modules_per_string=_per_string(sc),
+        restring=e.restring if e else None,
     )
+
+
+def _per_string(sc: Scenario) -> int | None:
+    """The modules in series the file gives (the re-strung array's own length when it re-strings without one)."""
+    e = sc.expansion
+    if e is None:
+        return None
+    if e.modules_per_string:
+        return int(e.modules_per_string)
+    return next((a.modules_per_string for a in sc.arrays if a.name == e.restring), None) if e.restring else None
 
 
 def check_controls(sc: Scenario, c: Controls) -> None:
@@ -120,6 +151,12 @@ def check_controls(sc: Scenario, c: Controls) -> None:
         raise InputError(f"no module named {c.module!r}", where="Module")
     if c.option in ("ac_backed_up", "ac_grid") and c.microinverter not in sc.microinverters:
         raise InputError(f"no microinverter named {c.microinverter!r}", where="Microinverter")
+    if c.option == "dc" and c.controller is not None and c.controller not in sc.controllers:
+        raise InputError(f"no controller named {c.controller!r}", where="Controller")
+    if c.option == "dc" and c.restring is not None and c.restring not in restring_choices(sc, c.module):
+        raise InputError(f"the new modules cannot be re-wired with {c.restring!r}", where="Re-string",
+                         hint="only an existing DC-coupled array of the same module can be re-strung with them; "
+                              "choose new strings of their own or the array's module")
     if c.export_allowed and c.export_limit_w <= 0:
         raise InputError("export is allowed but the export limit is 0 W", where="Export limit",
                          hint="set a limit above 0 W, or choose zero export")
@@ -142,6 +179,13 @@ def apply_controls(sc: Scenario, c: Controls) -> Scenario:
                                 module=c.module, microinverter=micro,
                                 # written only when it says more than the default choice (so a file reloads equal)
                                 coupling=c.option if e.coupling is not None or c.option != default_option(sc) else None)
+        if c.option == "dc":  # the string layout belongs to the DC-coupled option; the AC ones leave it as it is
+            e = dataclasses.replace(
+                e, controller=c.controller if c.controller is not None else e.controller,
+                modules_per_string=c.modules_per_string if c.modules_per_string is not None else e.modules_per_string,
+                # the file's strings count is for its own count; with_option arranges the count asked
+                strings=e.strings if c.modules_per_string in (None, e.modules_per_string) else None,
+                restring=c.restring)
     b = sc.battery
     if b is not None and c.battery_kwh is not None:
         b = dataclasses.replace(b, usable_kwh=float(c.battery_kwh),

@@ -103,9 +103,13 @@ class Verdict:
     money: str | None
     text: str
     reasons: tuple[str, ...]
+    # The design search's best valid design (its id), when the verdict was made with a search
+    # (core.analyses.design_verdict.with_design); None without one.
+    design: str | None = None
 
     def to_dict(self) -> dict:
-        return {"energy": self.energy, "money": self.money, "text": self.text, "reasons": list(self.reasons)}
+        return {"energy": self.energy, "money": self.money, "text": self.text, "reasons": list(self.reasons),
+                "design": self.design}
 
 
 @dataclass(frozen=True)
@@ -128,6 +132,12 @@ def option_delta(base: SimulationResult, opt: SimulationResult) -> dict[str, flo
     with the new panels' module energy (kWh a year) and the battery's usable size for the cycles."""
     expansion = opt.sources.per_array_dc_w.get(EXPANSION_ARRAY)
     potential = 0.0 if expansion is None else float(np.sum(expansion) * opt.site.dt_h / 1000.0)
+    e = opt.scenario.expansion
+    if expansion is None and e is not None and e.restring in opt.sources.per_array_dc_w:
+        # re-strung: the new modules' share is what the re-wired array gives beyond the existing one
+        grown = opt.sources.per_array_dc_w[e.restring]
+        before = base.sources.per_array_dc_w.get(e.restring, 0.0)
+        potential = float(max(np.sum(grown) - np.sum(before), 0.0) * opt.site.dt_h / 1000.0)
     usable = opt.scenario.battery.usable_kwh if opt.scenario.battery else 0.0
     out = metrics.delta(base.results, opt.results, expansion_potential_kwh=potential, usable_kwh=usable)
     # priced by the hour (time-of-use periods by the local clock), in the tariff's currency
@@ -135,8 +145,11 @@ def option_delta(base: SimulationResult, opt: SimulationResult) -> dict[str, flo
     return out
 
 
-def added_modules(sc_option: Scenario) -> int:
-    """New modules in a scenario with an option applied: the modules of its expansion array (0 for the baseline)."""
+def added_modules(sc_option: Scenario, base: Scenario | None = None) -> int:
+    """New modules in a scenario with an option applied: the modules of its expansion array (0 for the baseline),
+    or, given the scenario without it, every module it has more (a re-strung array holds the new ones too)."""
+    if base is not None:
+        return sum(a.module_count for a in sc_option.arrays) - sum(a.module_count for a in base.arrays)
     return sum(a.module_count for a in sc_option.arrays if a.name == EXPANSION_ARRAY)
 
 
@@ -341,7 +354,7 @@ def compare(sc: Scenario, layout: Layout | None = None, *, options: tuple[str, .
             progress(0.1 + 0.9 * i / len(chosen), OPTION_LABELS[option])
         sc_o = with_option(sc, option, layout)
         sim = simulate(sc_o, site, cache)
-        modules = added_modules(sc_o)
+        modules = added_modules(sc_o, sc)
         if option == Option.BASELINE:
             base_sim = sim
             delta = option_delta(sim, sim)
@@ -377,4 +390,4 @@ def _charge_window_reason(sc: Scenario, base: SimulationResult) -> str:
 
 
 def _with_reason(v: Verdict, reason: str) -> Verdict:
-    return Verdict(energy=v.energy, money=v.money, text=f"{v.text} {reason}".strip(), reasons=(*v.reasons, reason))
+    return dataclasses.replace(v, text=f"{v.text} {reason}".strip(), reasons=(*v.reasons, reason))

@@ -152,9 +152,44 @@ def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scen
             raise InputError("the AC-coupled option needs a microinverter", where="expansion.microinverter")
         array = Array(coupling="ac", side=AC_SIDES[option],
                       microinverter=e.microinverter, modules=int(lay.count), **common)
+    elif e.restring is not None:
+        return restrung(sc, e.restring, int(lay.count), e.modules_per_string)
     else:
         if e.controller is None:
             raise InputError("the DC-coupled option needs a controller", where="expansion.controller")
         per, strings = dc_string_layout(int(lay.count), e.modules_per_string)
         array = Array(coupling="dc", controller=e.controller, modules_per_string=per, strings=strings, **common)
     return dataclasses.replace(sc, arrays=(*sc.arrays, array))
+
+
+def restrung(sc: Scenario, name: str, count: int, modules_per_string: int | None) -> Scenario:
+    """The scenario with the existing DC-coupled array ``name`` re-wired with ``count`` new modules of its kind: all
+    its modules and the new ones as ``modules_per_string`` in series (its own length when None), on its controller
+    and face. A total that forms no equal strings of that length is arranged as the nearest equal strings
+    (:func:`dc_string_layout`), every module kept; :func:`restring_note` says so."""
+    arrays = list(sc.arrays)
+    i = next((k for k, a in enumerate(arrays) if a.name == name and a.coupling == "dc"), None)
+    if i is None:
+        raise InputError(f"{name!r} is not a DC-coupled array of this scenario", where="expansion.restring")
+    old = arrays[i]
+    per, strings = dc_string_layout(old.module_count + count, modules_per_string or old.modules_per_string)
+    arrays[i] = dataclasses.replace(old, modules_per_string=per, strings=strings)
+    return dataclasses.replace(sc, arrays=tuple(arrays))
+
+
+def restring_note(sc: Scenario, count: int) -> str | None:
+    """For a re-strung expansion, the arrangement in words (with :func:`dc_layout_note`'s sentence when the total
+    forms no equal strings of the length asked); None when the expansion re-strings nothing."""
+    e = sc.expansion
+    if e is None or e.restring is None:
+        return None
+    old = next((a for a in sc.arrays if a.name == e.restring), None)
+    if old is None:
+        return None
+    total = old.module_count + count
+    asked = e.modules_per_string or old.modules_per_string
+    per, strings = dc_string_layout(total, asked)
+    text = (f"Re-strung: the {old.module_count} modules of '{old.name}' and {count} new ones, {total} in all, as "
+            f"{strings} string{'s' if strings != 1 else ''} of {per} on {old.controller}.")
+    note = dc_layout_note(total, asked)
+    return f"{text} {note}" if note else text

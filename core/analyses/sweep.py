@@ -115,7 +115,7 @@ def _row(sc: Scenario, option: str, layout: Layout, cell: _CellYear | None, base
         found = run_checks(cell.scenario, cell, cache=cache, option=option)
         checks = [c for c in found if not any(_same_check(c, b) for b in base_checks)]
     rules = failed_rules(checks, d["exported_uncontrolled_kwh"])
-    modules = added_modules(cell.scenario)
+    modules = added_modules(cell.scenario, sc)
     e = option_economics(priced_scenario(sc, modules), option, d)
     out.update(modules=modules, **d, valid=not rules, failed_checks=", ".join(rules), investment=e.investment,
                npv=e.npv, irr=math.nan if e.irr is None else e.irr,

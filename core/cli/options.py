@@ -85,6 +85,13 @@ def cmd_compare(args) -> int:
         sc = sc.replace(grid=dataclasses.replace(sc.grid, ac_export_control=args.export_control))
     progress = stderr_progress("compare") if sys.stderr.isatty() else None
     comparison = compare(sc, layout, progress=progress)
+    if sc.design is not None:  # the verdict names the design to pick and only fixes the search has checked
+        from core.analyses.design import search
+        from core.analyses.design_verdict import with_design
+
+        found = search(sc, site=comparison.options["baseline"].simulation.site, cache=None,
+                       progress=stderr_progress("design search") if progress else None)
+        comparison = with_design(comparison, found)
     out = comparison.to_dict()
     if args.draws is None or args.draws > 0:
         from core.analyses.outage_draws import options_spread
@@ -99,10 +106,12 @@ def cmd_compare(args) -> int:
     if args.json:
         print(json.dumps(out, indent=2))
     else:
-        from core.analyses.options import dc_layout_note
+        from core.analyses.options import dc_layout_note, restring_note
 
         print(f"{sc.name}: {layout.count} panel{'s' if layout.count != 1 else ''} at {layout.tilt_deg:g}° tilt, {layout.azimuth_deg:g}° azimuth\n")
-        note = dc_layout_note(layout.count, expansion.modules_per_string) if "dc" in out["options"] else None
+        note = None if "dc" not in out["options"] else (
+            restring_note(sc, layout.count) if expansion.restring else dc_layout_note(layout.count,
+                                                                                     expansion.modules_per_string))
         if note:
             print(note + "\n")
         print(format_comparison(out))

@@ -117,7 +117,22 @@ def cross_check(sc: Scenario, r: Reader) -> None:
             ref(e.controller, sc.controllers, "expansion.controller", "controller")
         if e.face is not None:
             ref(e.face, faces, "expansion.face", "face")
+        if e.restring is not None:
+            _check_restring(sc, e, r)
     check_measured(sc, r)
+
+
+def _check_restring(sc: Scenario, e, r: Reader) -> None:
+    """``[expansion] restring`` names an existing DC-coupled array of the expansion's module."""
+    target = next((a for a in sc.arrays if a.name == e.restring), None)
+    dc = [a.name for a in sc.arrays if a.coupling == "dc"]
+    if target is None or target.coupling != "dc":
+        r.fail("expansion.restring", f"{e.restring!r} is not a DC-coupled array of this scenario",
+               hint=f"one of {', '.join(map(repr, dc))}" if dc else "remove the key: no array is DC-coupled")
+    elif e.module in sc.modules and target.module in sc.modules and sc.modules[target.module] != sc.modules[e.module]:
+        r.fail("expansion.restring", f"array {e.restring!r} has module {target.module!r}, the expansion "
+               f"{e.module!r}: only modules of the same kind share a string (common practice)",
+               hint="re-string with the same module, or remove the key")
 
 
 def check_measured(sc: Scenario, r: Reader) -> None:

@@ -224,6 +224,10 @@ class Expansion:
     controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
     modules_per_string: int | None = field(default=None, metadata=_num(1, 100))
     strings: int | None = field(default=None, metadata=_num(1, 100))
+    # DC option: the existing DC-coupled array (by name) whose modules are re-wired together with the new ones as
+    # ``modules_per_string`` in series on that array's controller and face (None: the new modules form their own
+    # strings on ``controller``).
+    restring: str | None = None
     # Costs of the whole expansion at ``count`` panels; another count is priced per panel (see priced_for).
     cost_ac: float = field(default=0.0, metadata=_num(0, 1e8))
     cost_dc: float = field(default=0.0, metadata=_num(0, 1e8))

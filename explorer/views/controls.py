@@ -12,12 +12,14 @@ _KEYS = {
     "module": "c_module", "microinverter": "c_micro", "battery_kwh": "c_battery", "reserve_pct": "c_reserve",
     "standing_draw_w": "c_standing", "export_allowed": "c_export", "export_limit_w": "c_export_limit",
     "limiter": "c_limiter", "outages": "c_outages", "outages_per_year": "c_outages_n",
-    "outage_mean_hours": "c_outages_h",
+    "outage_mean_hours": "c_outages_h", "controller": "c_controller", "modules_per_string": "c_per",
+    "restring": "c_restring",
 }
 #: Slider values must have the type of the slider's bounds.
 _WIDGET_TYPES = {"c_count": int, "c_tilt": lambda v: int(round(v)), "c_azimuth": lambda v: int(round(v)) % 360,
                  "c_reserve": lambda v: int(round(v)), "c_battery": lambda v: round(float(v), 1),
-                 "c_standing": float, "c_export_limit": float, "c_outages_n": float, "c_outages_h": float}
+                 "c_standing": float, "c_export_limit": float, "c_outages_n": float, "c_outages_h": float,
+                 "c_per": int}
 _COMPASS = ("north", "north-north-east", "north-east", "east-north-east", "east", "east-south-east", "south-east",
             "south-south-east", "south", "south-south-west", "south-west", "west-south-west", "west",
             "west-north-west", "north-west", "north-north-west")
@@ -48,6 +50,7 @@ def render(sc: Scenario) -> state.Controls:
     st.header("What if…")
     allowed = state.option_choices(sc)
     e = sc.expansion
+    layout = (d.controller, d.modules_per_string, d.restring)  # the file's, unless the DC option's controls say else
     if e is None or not allowed:
         st.info("The scenario has no usable [expansion] section: only the existing system is shown. Add one with "
                 "a module, a count, an orientation and a microinverter or a controller.")
@@ -79,6 +82,8 @@ def render(sc: Scenario) -> state.Controls:
                                  format_func=lambda m: f"{m} ({sc.microinverters[m].ac_rating_w:,.0f} W AC)")
         elif ss.get("c_micro") in sc.microinverters:
             micro = ss["c_micro"]
+        if option == "dc":
+            layout = string_layout(sc, module, int(count))
 
     battery_kwh = reserve = None
     if sc.battery is not None:
@@ -121,4 +126,79 @@ def render(sc: Scenario) -> state.Controls:
         microinverter=micro, battery_kwh=None if battery_kwh is None else float(battery_kwh),
         reserve_pct=None if reserve is None else float(reserve), standing_draw_w=float(standing),
         export_allowed=export_allowed, export_limit_w=float(limit or 0.0), limiter=bool(limiter), outages=outages,
-        outages_per_year=float(per_year), outage_mean_hours=float(mean_h))
+        outages_per_year=float(per_year), outage_mean_hours=float(mean_h), controller=layout[0],
+        modules_per_string=layout[1], restring=layout[2])
+
+
+def _strings_changed(existing: int, top: int) -> None:
+    # A callback, run before the page is drawn again: strings × modules per string sets the panels added.
+    ss = st.session_state
+    total = int(ss["c_per"]) * int(ss["c_strings"])
+    ss["c_count"] = int(min(max(total - existing, 0), top))
+
+
+def _wiring_changed(sc: Scenario) -> None:
+    # A callback: re-stringing starts from the array's own length, strings of their own from the file's.
+    ss = st.session_state
+    name = ss.get("c_restring")
+    old = next((a for a in sc.arrays if a.name == name), None)
+    per = old.modules_per_string if old is not None else state.controls_from_scenario(sc).modules_per_string
+    if per:
+        ss["c_per"] = int(per)
+
+
+def string_layout(sc: Scenario, module: str, count: int) -> tuple[str | None, int | None, str | None]:
+    """The DC-coupled option's string layout: re-string an existing array or not, the controller, modules per
+    string and strings (strings × modules per string sets the panels added); returns (controller, modules per
+    string, array re-strung)."""
+    from core.analyses.design.strings import describe
+    from core.analyses.options import dc_layout_note, dc_string_layout
+
+    ss = st.session_state
+    st.markdown("**String layout**")
+    choices = (None, *state.restring_choices(sc, module))
+    if ss.get("c_restring") not in choices:
+        ss["c_restring"] = None
+
+    def what(name: str | None) -> str:
+        if name is None:
+            return "Strings of their own"
+        return f"Re-string '{name}' ({state.existing_modules(sc, name)})"
+
+    restring = st.selectbox("Wiring", choices, format_func=what, key="c_restring", on_change=_wiring_changed,
+                            args=(sc,),
+                            help="Re-string: the existing array's modules and the new ones re-wired together as "
+                                 "equal strings on that array's controller and face (the tilt and azimuth above do "
+                                 "not apply). Otherwise the new modules form strings of their own on the controller "
+                                 "chosen below, in parallel with any strings already on it.")
+    existing = state.existing_modules(sc, restring)
+    if restring is None:
+        names = list(sc.controllers)
+        if ss.get("c_controller") not in names:
+            ss["c_controller"] = state.controls_from_scenario(sc).controller or names[0]
+        controller = st.selectbox("Controller", names, key="c_controller", format_func=lambda n: (
+            f"{n} ({sc.controllers[n].max_pv_voltage_v:,.0f} V, {sc.controllers[n].max_input_current_a:,.0f} A)"))
+    else:
+        old = next(a for a in sc.arrays if a.name == restring)
+        controller = old.controller
+        st.caption(f"On {controller} and the face of '{restring}' ({old.tilt_deg:.0f}° tilt, {old.azimuth_deg:.0f}° "
+                   "azimuth): the tilt and azimuth above do not apply.")
+    if not isinstance(ss.get("c_per"), int) or not 1 <= ss["c_per"] <= 100:
+        ss["c_per"] = int(state.controls_from_scenario(sc).modules_per_string or max(count + existing, 1))
+    total = count + existing
+    top = state.panel_count_max(sc)
+    per_col, strings_col = st.columns(2)
+    per = per_col.number_input("In series", 1, 100, step=1, key="c_per",
+                               help="modules per string: the string's voltage grows with it")
+    ss["c_strings"] = max(dc_string_layout(total, int(per))[1], 1) if total > 0 else 1
+    strings_col.number_input("Strings", 1, 100, step=1, key="c_strings", on_change=_strings_changed,
+                             args=(existing, top), help="strings in parallel: sets the panels added to "
+                             "strings × in series" + (f", less the {existing} existing modules" if existing else ""))
+    if total > 0:
+        p, n = dc_string_layout(total, int(per))
+        note = dc_layout_note(total, int(per))
+        if note:
+            st.caption(note)
+        elif restring:
+            st.caption(f"All {total} modules ({existing} existing, {count} new) as {describe(p, n)}.")
+    return controller, int(per), restring

@@ -14,10 +14,10 @@ from explorer import caching, charts
 _COUPLING = {"backed_up": "ac_backed_up", "grid": "ac_grid"}
 
 
-def controls_for(design, spec) -> dict | None:
+def controls_for(design, spec, sc=None) -> dict | None:
     """Session values that put a one-part design into the what-if controls, or None when they cannot show it
-    (a re-strung array, another controller than [expansion]'s, or two parts)."""
-    if len(design.candidate.parts) != 1:
+    (:func:`why_not_loadable` says why). ``sc``: the scenario searched (its [expansion] may fix the face)."""
+    if why_not_loadable(design, spec, sc) is not None:
         return None
     (p,) = design.candidate.parts
     face = spec.face(p.face)
@@ -26,11 +26,26 @@ def controls_for(design, spec) -> dict | None:
     if p.coupling == "ac":
         return {**values, "c_option": _COUPLING[p.side], "c_micro": p.microinverter,
                 "c_limiter": p.export_control == "limiter"}
-    sc = design.scenario
-    e = sc.expansion
-    if p.restrung or e is None or p.controller != e.controller:
-        return None
-    return {**values, "c_option": "dc"}
+    # DC: re-strung with an existing array, in parallel with one (on its controller), or on a controller of its own
+    return {**values, "c_option": "dc", "c_restring": p.restrung, "c_controller": p.controller,
+            "c_per": int(p.modules_per_string)}
+
+
+def why_not_loadable(design, spec, sc=None) -> str | None:
+    """Why the what-if controls cannot show a design (None when they can): they hold one way of connecting the new
+    panels at a time, and the expansion's face, when the file names one, fixes where they go."""
+    parts = design.candidate.parts
+    if len(parts) != 1:
+        return ("it has a DC part and an AC part, and the what-if controls hold one way of connecting the new panels "
+                "at a time")
+    (p,) = parts
+    e = sc.expansion if sc is not None else None
+    face = e.face if e is not None else None
+    if face is not None and p.face != face:
+        return f"its panels go on {p.face}, while the scenario's [expansion] puts them on {face}"
+    if p.coupling == "dc" and p.controller is None:
+        return "it names no controller"
+    return None
 
 
 def _load(values: dict) -> None:
@@ -48,14 +63,38 @@ def report_summary(sc) -> dict | None:
     return search_summary(stored["result"])
 
 
+def search_key(sc) -> str:
+    """What a search depends on: the site and every section the designs are built from."""
+    return caching.site_key(sc) + repr((sc.faces, sc.design, sc.expansion, sc.arrays, sc.battery, sc.grid,
+                                        sc.tariff, sc.controllers, sc.microinverters, sc.modules))
+
+
+def current_search(sc):
+    """The stored search when it was run on exactly these settings (else None): what the Options tab reuses."""
+    stored = st.session_state.get("design_result")
+    return stored["result"] if stored and stored["key"] == search_key(sc) else None
+
+
+def run_search(sc):
+    """Run the search with a progress bar, store it for both tabs and the report, and return it."""
+    bar = st.progress(0.0, text="Preparing the search…")
+
+    def progress(fraction: float, message: str) -> None:
+        bar.progress(min(max(fraction, 0.0), 1.0), text=f"Search: {message}")
+
+    result = search(sc, site=caching.site_data(sc), cache=caching.orientation_cache(sc), progress=progress)
+    bar.empty()
+    st.session_state["design_result"] = {"key": search_key(sc), "result": result}
+    return result
+
+
 def render(m) -> None:
     """The view of the page model ``m``: the search runs on the scenario of the controls, on a button."""
     sc = m.scenario
     if sc.design is None and sc.expansion is None:
         st.info("Add [[faces]] and a [design] section (or an [expansion]) to the scenario to search its designs.")
         return
-    key = caching.site_key(sc) + repr((sc.faces, sc.design, sc.expansion, sc.arrays, sc.battery, sc.grid,
-                                       sc.tariff, sc.controllers, sc.microinverters, sc.modules))
+    key = search_key(sc)
     left, right = st.columns([4, 1.3], vertical_alignment="bottom")
     left.markdown("Every arrangement of the new modules that the roof faces and the candidate controllers and "
                   "microinverters allow: re-strung with the existing modules, on a controller of their own, on "
@@ -64,15 +103,8 @@ def render(m) -> None:
     run = right.button("Search the designs", type="primary", key="design_run")
     stored = st.session_state.get("design_result")
     if run:
-        bar = st.progress(0.0, text="Preparing the search…")
-
-        def progress(fraction: float, message: str) -> None:
-            bar.progress(min(max(fraction, 0.0), 1.0), text=f"Search: {message}")
-
-        result = search(sc, site=caching.site_data(sc), cache=caching.orientation_cache(sc), progress=progress)
-        bar.empty()
-        stored = {"key": key, "result": result}
-        st.session_state["design_result"] = stored
+        run_search(sc)
+        stored = st.session_state["design_result"]
     if not stored or stored["result"].scenario.name != sc.name:
         st.info("Press *Search the designs* to try every arrangement (a few seconds).")
         return
@@ -102,10 +134,11 @@ def render(m) -> None:
         chosen = st.selectbox("Try a design with the what-if controls", ids, key="design_pick",
                               format_func=lambda i: f"{i}: {result.get(i).candidate.words()}")
         design = result.get(chosen)
-        values = controls_for(design, result.spec)
+        values = controls_for(design, result.spec, result.scenario)
         if values is None:
-            st.caption("The what-if controls cannot show this design (re-strung modules, another controller or two "
-                       "parts); download it as a scenario file and open that instead.")
+            st.caption("The what-if controls cannot show this design: "
+                       f"{why_not_loadable(design, result.spec, result.scenario)}. "
+                       "Download it as a scenario file and open that instead.")
         else:
             st.button("Load into the what-if controls", key="design_load", on_click=_load, args=(values,))
         from explorer.state import scenario_download

@@ -86,6 +86,21 @@ def _voltage_status(value: float, limit: float) -> str:
     return "warn" if value > VOLTAGE_MARGIN_SHARE * limit else "pass"
 
 
+def _longer_string_advice(module, controller, t_low_c: float, vmp_hot_per_module_v: float, need_v: float) -> str:
+    """Advice for a string too short to charge the battery in hot sun, only if it can be followed: the shortest
+    string long enough (by maximum-power voltage in hot sun) when it stays below the controller's limit on the
+    coldest morning (NEC 690.7(A)(1) coefficient method); otherwise that no length fits this controller."""
+    longer = math.ceil(need_v / vmp_hot_per_module_v) if vmp_hot_per_module_v > 0 else 0
+    if longer > 0:
+        voc = voc_max_coefficient_v(module.voc_v, module.beta_voc_pct_per_c, t_low_c, longer)
+        if voc <= controller.max_pv_voltage_v:
+            return f"put at least {longer} modules in series"
+        return (f"a string long enough ({longer} in series) would reach {voc:.0f} V open-circuit on the coldest "
+                f"morning, above the controller's {controller.max_pv_voltage_v:.0f} V limit, so no string of this "
+                "module fits this controller and battery: use a controller with a higher voltage limit")
+    return "no string of this module fits this controller and battery"
+
+
 def dc_arrays_by_controller(sc: Scenario) -> dict[str, list[Array]]:
     out: dict[str, list[Array]] = {}
     for a in sc.arrays:
@@ -153,7 +168,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
                 limit = need_nominal
                 status, what = "fail", (f"below the battery's {v_batt:.1f} V nominal plus the controller's "
                                         f"{c.battery_margin_v:.0f} V margin: in hot sun the controller cannot charge; "
-                                        "put more modules in series")
+                                        + _longer_string_advice(m, c, temps.low_c, vmp_hot / n, need_nominal))
             elif vmp_hot < need_full:
                 limit = need_full
                 status, what = "warn", (f"below the battery's full-charge voltage (about {FULL_CHARGE_FACTOR:.2f} × "

@@ -24,17 +24,24 @@ from core.analyses.design.build import design_scenario
 from core.analyses.design.candidates import Candidate
 from core.analyses.design.costs import Cost, design_cost
 from core.analyses.design.spec import DesignSpec
-from core.model import dispatch
+from core.analyses.sweep import _columns as engine_columns  # the engine flows as year_totals reads them
+from core.model import dispatch, metrics
 from core.model import economics as econ
 from core.scenario import Scenario
-from core.simulate import OrientationCache, SiteData, SourcePower, dispatch_params, source_power
+from core.simulate import (
+    OrientationCache,
+    SiteData,
+    SourcePower,
+    charge_window,
+    dispatch_params,
+    source_power,
+)
 
 #: Uncontrolled export below this counts as none (rounding of the engine's sums), kWh a year.
 EXPORT_EPS_KWH = 1e-3
 #: Bytes of engine output and inputs per batch (as the sweep's).
 BATCH_BYTES = 64e6
 _SOURCE_KEYS = ("dc_out_w", "dc_loss_w", "ac_backed_out_w", "ac_backed_loss_w", "ac_grid_out_w", "ac_grid_loss_w")
-_F = {name: i for i, name in enumerate(dispatch.FLOWS)}
 
 
 @dataclass(frozen=True)
@@ -86,34 +93,33 @@ class DesignResult:
         }
 
 
-def year_figures(flows: np.ndarray, s: SourcePower, dt_h: float) -> dict[str, float]:
-    """Year totals (kWh) and hours of one design from its engine flows and source powers (as core.model.metrics)."""
-    k = dt_h / 1000.0
-    curtailed = float((flows[_F["curtailed_dc_w"]] + flows[_F["curtailed_ac_backed_w"]] + flows[_F["curtailed_ac_grid_w"]]).sum()
-                      * k)
-    potential = float((s.potential_dc_w + s.potential_ac_w).sum() * k)
-    clipped = float((s.clipped_dc_w + s.clipped_ac_w).sum() * k)
-    uncontrolled = flows[_F["export_uncontrolled_w"]]
-    export_allowed = float(flows[_F["export_allowed_w"]].sum() * k)
+def year_figures(flows: np.ndarray, s: SourcePower, site: SiteData, initial_wh: float) -> dict[str, float]:
+    """Year totals (kWh) and hours of one design from its engine flows and source powers.
+
+    Every figure is :func:`core.model.metrics.year_totals`' (the one definition, as compare and the sweep read
+    it), under the short names the search's tables use; ``totals`` keeps the whole record for
+    :func:`added_figures`.
+    """
+    t = metrics.year_totals(engine_columns(flows, s, site), dt_h=site.dt_h, initial_wh=initial_wh)
+    e = t.energy_kwh
     return {
-        "potential": potential, "clipped": clipped, "curtailed": curtailed,
-        "harvested": potential - curtailed - clipped, "exported": export_allowed + float(uncontrolled.sum() * k),
-        "export_allowed": export_allowed, "grid_import": float(flows[_F["grid_import_w"]].sum() * k),
-        "unserved": float(flows[_F["unserved_w"]].sum() * k), "uncontrolled": float(uncontrolled.sum() * k),
-        "uncontrolled_hours": float((uncontrolled > 1e-6).sum() * dt_h),
+        "potential": e["pv_potential"], "clipped": e["clipped"], "curtailed": e["curtailed"],
+        "harvested": e["harvested"], "exported": e["exported"], "export_allowed": e["exported_allowed"],
+        "grid_import": e["grid_import"], "unserved": e["unserved"], "uncontrolled": e["exported_uncontrolled"],
+        "uncontrolled_hours": t.hours["export_uncontrolled"], "totals": t,
     }
 
 
 def added_figures(f: dict[str, float], base: dict[str, float]) -> dict[str, float]:
-    """A design's year against the existing system's (kWh a year). Self-consumed = harvested − exported
-    (Luthander et al. 2015)."""
+    """A design's year against the existing system's (kWh a year): :func:`core.model.metrics.delta` of the two
+    years (self-consumed = harvested − exported, Luthander et al. 2015), under the search's short names."""
+    d = metrics.delta(base["totals"], f["totals"], expansion_potential_kwh=f["potential"] - base["potential"])
     return {
-        "self_consumed_kwh": (f["harvested"] - f["exported"]) - (base["harvested"] - base["exported"]),
-        "grid_import_saved_kwh": base["grid_import"] - f["grid_import"],
-        "export_allowed_kwh": f["export_allowed"] - base["export_allowed"],
-        "curtailed_kwh": f["curtailed"] - base["curtailed"], "clipped_kwh": f["clipped"] - base["clipped"],
-        "harvested_kwh": f["harvested"] - base["harvested"], "potential_kwh": f["potential"] - base["potential"],
-        "unserved_kwh": f["unserved"] - base["unserved"],
+        "self_consumed_kwh": d["self_consumed_added_kwh"], "grid_import_saved_kwh": d["grid_import_saved_kwh"],
+        "export_allowed_kwh": d["export_allowed_added_kwh"], "curtailed_kwh": d["curtailed_added_kwh"],
+        "clipped_kwh": d["clipped_added_kwh"], "harvested_kwh": d["harvested_added_kwh"],
+        "potential_kwh": d["expansion_potential_kwh"], "unserved_kwh": d["unserved_added_kwh"],
+        "to_loads_kwh": d["to_loads_added_kwh"],
     }
 
 
@@ -185,10 +191,11 @@ def evaluate(sc: Scenario, spec: DesignSpec, candidates: list[Candidate], site: 
                     "ac_grid_loss_w": s.ac_grid.loss_w}
             for key, row in rows.items():
                 buffers[key][i] = row
+        params = dispatch_params(scenarios[0], site.dt_h)
         flows = dispatch.dispatch_many(site.load_backed_w, site.load_grid_only_w, site.grid_up,
-                                       {key: buffers[key][:k] for key in _SOURCE_KEYS},
-                                       dispatch_params(scenarios[0], site.dt_h), out=buffers["flows"][:k])
-        return [year_figures(flows[i], s, site.dt_h) for i, s in enumerate(sources)]
+                                       {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
+                                       out=buffers["flows"][:k], charge_window=charge_window(scenarios[0], site))
+        return [year_figures(flows[i], s, site, params.initial_wh) for i, s in enumerate(sources)]
 
     base = run([sc], [source_power(sc, site, cache)])[0]
     results: dict[str, DesignResult] = {}
