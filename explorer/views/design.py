@@ -37,6 +37,20 @@ def _load(values: dict) -> None:
     st.session_state.update(values)
 
 
+def best_lines(result) -> list[str]:
+    """The reasons for the best designs, each design told once: the best of a kind that is also the best overall
+    is named in one short line instead of the same paragraph again."""
+    best = result.best.get("overall")
+    lines = [result.reasons["overall"]]
+    for kind, words in (("dc", "DC-coupled"), ("ac", "AC-coupled")):
+        mine = result.best.get(kind)
+        if best is not None and mine is not None and mine.id == best.id:
+            lines.append(f"The best {words} design is the best design above ({best.id}).")
+        else:
+            lines.append(result.reasons[kind])
+    return lines
+
+
 def report_summary(sc) -> dict | None:
     """The last search's summary for the HTML report, when it was run on this scenario (else None)."""
     from core.analyses.design.report import search_summary
@@ -79,8 +93,7 @@ def render(m) -> None:
         st.warning("The settings changed since this search: press *Search the designs* to update it.")
     result = stored["result"]
     cur = result.scenario.tariff.currency
-    for kind in ("overall", "dc", "ac"):
-        st.markdown(f"- {result.reasons[kind]}")
+    st.markdown("\n".join(f"- {line}" for line in best_lines(result)))
     with_invalid = st.toggle("Show the invalid designs too, with the rule each one fails", key="design_invalid")
     frame = design_frame(result, include_invalid=with_invalid)
     st.caption(f"{len(result.designs)} designs tried, {len(result.valid)} valid.")
