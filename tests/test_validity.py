@@ -15,8 +15,8 @@ import pytest
 from expansion_cases import hand_scenario, synthetic_site
 
 from core.analyses.checks import Check
-from core.analyses.compare import compare
 from core.analyses.checks.words import rule_words
+from core.analyses.compare import compare
 from core.analyses.sweep import rule_counts, sweep, sweep_summary
 from core.analyses.validity import LEAK_RULE, failed_rules, why_set_aside
 from core.present.options_table import options_table

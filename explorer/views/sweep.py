@@ -9,8 +9,8 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from core.analyses.compare import LOADS_ROW
 from core.analyses.checks.words import rule_words
+from core.analyses.compare import LOADS_ROW
 from core.analyses.options import OPTION_LABELS
 from core.analyses.sweep import rule_counts, sweep, sweep_summary
 from core.analyses.validity import LEAK_RULE
