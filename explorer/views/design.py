@@ -102,6 +102,8 @@ def render(m) -> None:
         "cost": f"Cost ({cur})", "npv": f"NPV ({cur})", "payback_years": "Simple payback (years)",
         "self_consumed_added_kwh": "Added self-consumed (kWh/yr)", "curtailed_added_kwh": "Added curtailed (kWh/yr)",
         "valid": "Valid", "on_front": "On the best front", "why_invalid": "Why not valid"})
+    # the figures before the long description, so that they are not behind the table's scroll bar
+    table = table[[c for c in table.columns if c != "What"] + ["What"]]
     st.dataframe(table, hide_index=True, width="stretch", column_config={
         f"Cost ({cur})": st.column_config.NumberColumn(format="%.0f"),
         f"NPV ({cur})": st.column_config.NumberColumn(format="%.0f"),
