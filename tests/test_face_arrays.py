@@ -119,7 +119,9 @@ def test_face_scenario_round_trips_and_a_too_small_layout_is_bad_input():
     sc = _scenario(True)
     again = parse_scenario(scenario_to_toml(sc), base_dir=SAMPLE.parent)
     assert again.faces == sc.faces and again.expansion.face == "east porch"
-    crowded = with_option(sc.replace(expansion=sc.expansion.priced_for(3)), "ac_backed_up")
+    # three modules on the two-module porch, named in the file (the what-if's extra panels would stand free instead)
+    new = next(a for a in with_option(sc, "ac_backed_up").arrays if a.name == "expansion")
+    crowded = sc.replace(arrays=(*sc.arrays, dataclasses.replace(new, modules=3)))
     with pytest.raises(InputError) as err:
         simulate(crowded)
     where = f"faces[{[f.name for f in sc.faces].index('east porch')}].rows"
@@ -200,3 +202,8 @@ def test_new_panels_turned_away_from_their_face_stand_free():
     assert array.face is None and array.azimuth_deg == 180.0
     b = {x["name"]: x for x in array_breakdown(simulate(turned, site, cache))}["expansion"]
     assert b["losses_kwh"]["obstacles"] == 0.0
+    # more panels than the porch's row of three holds stand free too, rather than refuse the setting
+    many = with_option(sc.replace(expansion=sc.expansion.priced_for(4)), "ac_backed_up")
+    assert next(x for x in many.arrays if x.name == "expansion").face is None
+    assert next(x for x in with_option(sc.replace(expansion=sc.expansion.priced_for(3)), "dc").arrays
+                if x.name == "expansion").face == "west porch"

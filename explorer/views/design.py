@@ -104,12 +104,12 @@ def render(m) -> None:
         "valid": "Valid", "on_front": "On the best front", "why_invalid": "Why not valid"})
     # the figures before the long description, so that they are not behind the table's scroll bar
     table = table[[c for c in table.columns if c != "What"] + ["What"]]
+    # whole units with thousands separators: rounded here, shown in the reader's number format
+    whole = [f"Cost ({cur})", f"NPV ({cur})", "Added self-consumed (kWh/yr)", "Added curtailed (kWh/yr)"]
+    table[whole] = table[whole].round(0)
     st.dataframe(table, hide_index=True, width="stretch", column_config={
-        f"Cost ({cur})": st.column_config.NumberColumn(format="%.0f"),
-        f"NPV ({cur})": st.column_config.NumberColumn(format="%.0f"),
-        "Simple payback (years)": st.column_config.NumberColumn(format="%.1f"),
-        "Added self-consumed (kWh/yr)": st.column_config.NumberColumn(format="%.0f"),
-        "Added curtailed (kWh/yr)": st.column_config.NumberColumn(format="%.0f")})
+        **{c: st.column_config.NumberColumn(format="localized") for c in whole},
+        "Simple payback (years)": st.column_config.NumberColumn(format="%.1f")})
     if result.valid:
         charts.draw(charts_design.design_scatter(design_frame(result), cur))
         ids = [d.id for d in result.valid]

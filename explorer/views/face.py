@@ -26,6 +26,8 @@ def face_modules(layout, hours) -> pd.DataFrame:
 def face_chart(frame: pd.DataFrame, face_name: str) -> alt.Chart:
     """The modules as seen from the front, coloured by hours a year with part of their cells in shade."""
     top = float(frame["hours"].max()) if len(frame) else 0.0
+    # whole hours from none to the most, each label once (a scale's own ticks repeat "1" below two hours)
+    ticks = [0.0, round(top / 2.0), round(top)] if top >= 4.0 else [0.0, round(max(top, 1.0))]
     return alt.Chart(frame, title=alt.Title(f"Which modules on “{face_name}” see shade, and how often",
                                             subtitle="seen from the front; hours a year with a shadow on the cells")
                      ).mark_rect(stroke="#333333").encode(
@@ -33,7 +35,7 @@ def face_chart(frame: pd.DataFrame, face_name: str) -> alt.Chart:
         y=alt.Y("s0_m:Q", title="Up the slope / back (m)"), y2="s1_m:Q",
         # From no shade to at least one hour: a face without shade is drawn pale, not in the scale's darkest colour
         color=alt.Color("hours:Q", scale=alt.Scale(scheme="orangered", domain=[0.0, max(top, 1.0)]),
-                        legend=alt.Legend(title="Shade (h a year)", format=",.0f", tickCount=4)),
+                        legend=alt.Legend(title="Shade (h a year)", format=",.0f", values=ticks)),
         tooltip=[alt.Tooltip("module:Q", title="Module"), alt.Tooltip("row:Q", title="Row"),
                  alt.Tooltip("column:Q", title="Column"), alt.Tooltip("hours:Q", title="Shade (h a year)",
                                                                       format=",.0f")],
