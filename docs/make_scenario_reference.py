@@ -214,8 +214,10 @@ MEANINGS: dict[str, str] = {
     "[measured] timezone": "IANA time zone of naive timestamps in the export; the site's when absent.",
     "[measured] weather_path": "Measured weather of the same period (optional): fits hour by hour instead of on "
                                "clear-sky days.",
-    "[expansion] face": "The [[faces]] entry the new panels go on: they take its orientation, mount, losses, "
-                        "layout and surroundings (shading per module and substring).",
+    "[expansion] face": "The [[faces]] entry the new panels go on: they take its mount, losses, layout and "
+                        "surroundings (shading per module and substring) while tilt_deg and azimuth_deg are the "
+                        "face's and they fit its layout; turned another way or more than it holds (the explorer's "
+                        "controls, a sweep) they stand free.",
     "[modules.NAME] cells_in_series": "Cells in series in one module (for its I-V curve); estimated from Voc when "
                                       "absent.",
     "[simulation] mppt_tracker": "How a charge controller finds a shaded string's maximum power point: 'global' "

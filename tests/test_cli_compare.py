@@ -55,10 +55,12 @@ def test_compare_prices_the_modules_it_simulates(capsys):
     # modules, compare must price the modules it simulates: the file's cost_dc is for its own count, scaled per
     # module (Expansion.priced_for), and the new panels' potential scales with the same count (same orientation).
     # Today parallel strings on one input must be equal (common practice) and 3 forms one whole string of 2.
+    # Turned away from the porch (whose tree shades a string and microinverters differently), the new panels stand
+    # free and unshaded, so the potential is the same per module either way.
     from core.scenario import load_scenario
 
     sc = load_scenario(SAMPLE)
-    code, out, _ = run(capsys, "compare", SAMPLE, "--count", "3", "--json")
+    code, out, _ = run(capsys, "compare", SAMPLE, "--count", "3", "--tilt", "25", "--azimuth", "200", "--json")
     data = json.loads(out)
     dc, ac = data["options"]["dc"], data["options"]["ac_backed_up"]
     assert ac["modules"] == 3 and 1 <= dc["modules"] <= 3

@@ -379,3 +379,20 @@ def test_the_verdict_lists_each_option_it_set_aside(monkeypatch):
     for label in ("AC-coupled, backed-up side", "AC-coupled, grid side"):
         line = next(t for t in shown if t.startswith(f"Set aside: {label}"))
         assert "uncontrolled export" in line and "more from PV" in line
+
+
+def test_losses_and_shade_tab_shows_the_porch_trees_shade(monkeypatch):
+    # Maple Hollow's new panels lie on the west porch, where a tree stands off one end of the row: the tab draws
+    # their losses with an obstacle loss, and the porch drawing with shade hours on its modules.
+    at = _tab(_app(monkeypatch), "Losses and shade")
+    _ok(at)
+    assert at.selectbox(key="losses_array").value == "expansion"  # shown as "the new panels"
+    assert at.selectbox(key="face_pick").value == "west porch"  # the new panels' face comes first
+    table = next(d.value for d in at.dataframe if "Loss" in d.value.columns)
+    obstacles = float(table.loc[table["Loss"] == "Obstacles", "kWh a year"].iloc[0])
+    assert obstacles > 0.5, table
+    assert not any(c.value.startswith("Nothing shades") for c in at.caption)
+    # a face without obstacles says that nothing shades it
+    at.selectbox(key="face_pick").set_value("south roof").run()
+    _ok(at)
+    assert any(c.value.startswith("Nothing shades") for c in at.caption)

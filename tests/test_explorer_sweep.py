@@ -11,6 +11,7 @@ from pathlib import Path
 
 from streamlit.testing.v1 import AppTest
 
+from core.analyses.checks.words import rule_words
 from core.analyses.validity import LEAK_RULE
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -31,9 +32,11 @@ def test_sweep_tab_summary_and_legend(monkeypatch):
     assert not at.exception, [e.value for e in at.exception]
     texts = [m.value for m in at.markdown]
     summary = [t for t in texts if t.startswith(("No setting in this sweep passes", "Best that passes"))]
-    assert summary and summary[0].startswith("No setting in this sweep passes") and LEAK_RULE in summary[0]
+    assert summary and summary[0].startswith("No setting in this sweep passes")
+    assert rule_words(LEAK_RULE) in summary[0] and LEAK_RULE not in summary[0]
     legend = [c.value for c in at.caption if c.value.startswith("C: added curtailment")]
-    assert legend and f"X: uncontrolled export into a grid that may not be fed ({LEAK_RULE})" in legend[0]
+    assert legend and "X: uncontrolled export into a grid that may not be fed — set aside." in legend[0]
+    assert LEAK_RULE not in legend[0]  # the rules in words, not their ids
     # the cells can be coloured by NPV, in the tariff's currency
     assert "NPV (ZAR)" in at.radio(key="sweep_colour").options
     at.radio(key="sweep_colour").set_value("npv").run()

@@ -36,9 +36,16 @@ depth_m = 0.8
 
 
 def _scenario(obstacle: bool):
-    text = SAMPLE.read_text(encoding="utf-8").replace('[expansion]\nmodule = "mono_410"',
-                                                      '[expansion]\nface = "east porch"\nmodule = "mono_410"')
-    return parse_scenario(text + FACE + (CHIMNEY if obstacle else ""), base_dir=SAMPLE.parent)
+    sc = parse_scenario(SAMPLE.read_text(encoding="utf-8") + FACE + (CHIMNEY if obstacle else ""),
+                        base_dir=SAMPLE.parent)
+    return _on_face(sc, "east porch")
+
+
+def _on_face(sc, name: str):
+    """The scenario with the new panels on face ``name``, facing the way it does (turned away they stand free)."""
+    face = next(f for f in sc.faces if f.name == name)
+    return sc.replace(expansion=dataclasses.replace(sc.expansion, face=name, tilt_deg=face.tilt_deg,
+                                                    azimuth_deg=face.azimuth_deg))
 
 
 @pytest.fixture(scope="module")
@@ -112,7 +119,9 @@ def test_face_scenario_round_trips_and_a_too_small_layout_is_bad_input():
     sc = _scenario(True)
     again = parse_scenario(scenario_to_toml(sc), base_dir=SAMPLE.parent)
     assert again.faces == sc.faces and again.expansion.face == "east porch"
-    crowded = with_option(sc.replace(expansion=sc.expansion.priced_for(3)), "ac_backed_up")
+    # three modules on the two-module porch, named in the file (the what-if's extra panels would stand free instead)
+    new = next(a for a in with_option(sc, "ac_backed_up").arrays if a.name == "expansion")
+    crowded = sc.replace(arrays=(*sc.arrays, dataclasses.replace(new, modules=3)))
     with pytest.raises(InputError) as err:
         simulate(crowded)
     where = f"faces[{[f.name for f in sc.faces].index('east porch')}].rows"
@@ -164,14 +173,37 @@ module_orientation = "ORIENT"
 def test_racked_rows_on_a_flat_roof_portrait_loses_more():
     # Martínez-Moreno et al. (2010): with bypass diodes, a portrait row loses more to the row in front than a
     # landscape one at the same ground cover ratio; here through the whole year on microinverters.
-    text = SAMPLE.read_text(encoding="utf-8").replace('[expansion]\nmodule = "mono_410"',
-                                                      '[expansion]\nface = "flat roof"\nmodule = "mono_410"')
+    text = SAMPLE.read_text(encoding="utf-8")
     loss = {}
     for orient, pitch in (("portrait", 2.6), ("landscape", 2.6 * 1.13 / 1.72)):
-        sc = parse_scenario(text + RACKS.replace("PITCH", str(pitch)).replace("ORIENT", orient),
-                            base_dir=SAMPLE.parent)
+        sc = _on_face(parse_scenario(text + RACKS.replace("PITCH", str(pitch)).replace("ORIENT", orient),
+                                     base_dir=SAMPLE.parent), "flat roof")
         sim = simulate(with_option(sc, "ac_backed_up"))
         a = {x["name"]: x for x in array_breakdown(sim)}["expansion"]
         loss[orient] = a["losses_kwh"]["row_shading"] / a["poa_kwh"]
         assert a["losses_kwh"]["obstacles"] == 0.0
     assert loss["portrait"] > loss["landscape"] > 0.0
+
+
+def test_new_panels_turned_away_from_their_face_stand_free():
+    # The sample's new panels lie on the west porch, where a tree shades them; turned to face south they are no
+    # longer on that roof (the explorer's tilt and azimuth, a sweep cell), so they take neither its layout nor its
+    # shade. The obstacle's loss is a share of the potential between none and all of it (the box only stands off
+    # one end of the row).
+    sc = parse_scenario(SAMPLE.read_text(encoding="utf-8"), base_dir=SAMPLE.parent)
+    assert sc.expansion.face == "west porch" and any(f.obstacles for f in sc.faces)
+    site, cache = prepare_site(sc), OrientationCache()
+    on = with_option(sc, "ac_backed_up")
+    a = {x["name"]: x for x in array_breakdown(simulate(on, site, cache))}["expansion"]
+    assert next(x for x in on.arrays if x.name == "expansion").face == "west porch"
+    assert 0.0 < a["losses_kwh"]["obstacles"] < a["poa_kwh"]
+    turned = with_option(sc.replace(expansion=dataclasses.replace(sc.expansion, azimuth_deg=180.0)), "ac_backed_up")
+    array = next(x for x in turned.arrays if x.name == "expansion")
+    assert array.face is None and array.azimuth_deg == 180.0
+    b = {x["name"]: x for x in array_breakdown(simulate(turned, site, cache))}["expansion"]
+    assert b["losses_kwh"]["obstacles"] == 0.0
+    # more panels than the porch's row of three holds stand free too, rather than refuse the setting
+    many = with_option(sc.replace(expansion=sc.expansion.priced_for(4)), "ac_backed_up")
+    assert next(x for x in many.arrays if x.name == "expansion").face is None
+    assert next(x for x in with_option(sc.replace(expansion=sc.expansion.priced_for(3)), "dc").arrays
+                if x.name == "expansion").face == "west porch"

@@ -129,6 +129,20 @@ def dc_layout_note(count: int, modules_per_string: int | None) -> str | None:
             + f". For strings of {modules_per_string}, add or remove panels to a multiple of {modules_per_string}.")
 
 
+def faces_like(layout: Layout, face) -> bool:
+    """Whether ``layout`` keeps the orientation of ``face`` (within half a degree of tilt and azimuth)."""
+    turn = abs((float(layout.azimuth_deg) - face.azimuth_deg + 180.0) % 360.0 - 180.0)
+    return abs(float(layout.tilt_deg) - face.tilt_deg) < 0.5 and turn < 0.5
+
+
+def fits_on(sc: Scenario, face, count: int) -> bool:
+    """Whether ``count`` more modules fit the face's layout beside the arrays already on it (no layout: always)."""
+    if face.rows is None or face.columns is None:
+        return True
+    there = sum(a.module_count for a in sc.arrays if a.face == face.name)
+    return there + count <= face.rows * face.columns
+
+
 def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scenario:
     """The scenario with the expansion added as the given option (``baseline`` returns it unchanged)."""
     option = as_option(option)
@@ -144,6 +158,10 @@ def with_option(sc: Scenario, option: str, layout: Layout | None = None) -> Scen
     common = dict(name=EXPANSION_ARRAY, module=e.module, tilt_deg=float(lay.tilt_deg),
                   azimuth_deg=float(lay.azimuth_deg), mount=e.mount, losses_pct=e.losses_pct, row_pitch_m=e.row_pitch_m)
     face = next((f for f in sc.faces if f.name == e.face), None) if e.face else None
+    if face is not None and not (faces_like(lay, face) and fits_on(sc, face, int(lay.count))):
+        # Turned away from the face, or more than its layout holds (a sweep cell, the what-if's controls), the panels
+        # are elsewhere: a free array at that orientation, without the face's layout and shade.
+        face = None
     if face is not None:  # on a named face the panels take its orientation, mount and shading
         common.update(face=face.name, tilt_deg=face.tilt_deg, azimuth_deg=face.azimuth_deg, mount=face.mount,
                       losses_pct=face.losses_pct, row_pitch_m=face.row_pitch_m)

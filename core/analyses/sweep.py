@@ -24,6 +24,7 @@ import pandas as pd
 
 from core.analyses.checks import run_checks
 from core.analyses.checks import same_check as _same_check
+from core.analyses.checks.words import rule_words
 from core.analyses.compare import added_modules, option_economics, priced_scenario
 from core.analyses.options import (
     EXPANSION_ARRAY,
@@ -233,7 +234,7 @@ def sweep_summary(table: pd.DataFrame, *, axis: str = "azimuth_deg", currency: s
     valid = added[added["valid"].astype(bool)]
     rules = rule_counts(added)
     set_aside = (f"{len(added) - len(valid)} of {len(added)} settings with panels added are set aside: "
-                 + "; ".join(f"{rule} in {n}" for rule, n in rules.items()) + ".") if rules else ""
+                 + "; ".join(f"{rule_words(rule)} in {n}" for rule, n in rules.items()) + ".") if rules else ""
     if not len(valid):
         return (f"No setting in this sweep passes, so none is recommended. {set_aside} "
                 "A cell that breaks a rule (a failing design check, or uncontrolled export into a grid that may not "
@@ -249,5 +250,6 @@ def sweep_summary(table: pd.DataFrame, *, axis: str = "azimuth_deg", currency: s
     top = added.loc[added["self_consumed_added_kwh"].idxmax()]
     if not bool(top["valid"]) and top["self_consumed_added_kwh"] > energy["self_consumed_added_kwh"]:
         text += (f" More would come from {_where(top, axis, several)} ({top['self_consumed_added_kwh']:,.0f} kWh/yr), "
-                 f"but it breaks {top['failed_checks']}.")
+                 "but it breaks: " + ", ".join(rule_words(r) for r in filter(None, str(top["failed_checks"]).split(", ")))
+                 + ".")
     return text + (f" {set_aside}" if set_aside else "")

@@ -52,7 +52,8 @@ def daily_scatter(daily: pd.DataFrame, basis: str = "") -> alt.LayerChart:
         title=alt.Title("Does the model follow the record, day by day?",
                         subtitle=f"screened daytime intervals{'; model on ' + basis if basis else ''}; on the dashed "
                                  "line model and record agree"),
-        width="container", height=380)
+        # room above the title: without it the page cuts the top of the title's first line
+        padding={"top": 14, "left": 5, "right": 5, "bottom": 5}, width="container", height=380)
 
 
 def hourly_series(intervals: pd.DataFrame, tz) -> pd.DataFrame:

@@ -219,7 +219,7 @@ class Expansion:
     mount: Literal["rack", "flush"] = "flush"
     losses_pct: float = field(default=10.0, metadata=_num(0, 99))
     row_pitch_m: float | None = field(default=None, metadata=_num(0, 100, lo_open=True))
-    face: str | None = None  # the [[faces]] entry the new panels go on (they take its orientation and shading)
+    face: str | None = None  # the [[faces]] entry the new panels go on, while they keep its tilt and azimuth
     microinverter: str | None = None  # AC option
     controller: str | None = None  # DC option: an existing array's controller, or one used by none (added)
     modules_per_string: int | None = field(default=None, metadata=_num(1, 100))

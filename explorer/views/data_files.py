@@ -23,6 +23,19 @@ WEATHER_TYPES = ["csv", "epw", "tm2", "txt"]
 UNIT_CHOICES = ["decide from the file", "W", "kW", "Wh", "kWh", "kWh_register"]
 
 
+def _when(stamp) -> str:
+    """An ISO time stamp as a reader writes it (2025-01-01 05:00), or the text as it is when it is not one."""
+    try:
+        return pd.Timestamp(stamp).strftime("%Y-%m-%d %H:%M")
+    except (TypeError, ValueError):
+        return "" if stamp is None else str(stamp)
+
+
+def _reason(text: str) -> str:
+    """How the unit was decided, in the page's words (the loader speaks of its caller: here, the settings)."""
+    return "as set in the scenario or above" if text == "given by the caller" else text
+
+
 def _quality_rows(q: dict) -> pd.DataFrame:
     """The load summary as a two-column table a person reads top to bottom."""
     def f(value, fmt="{}", unit=""):
@@ -33,9 +46,9 @@ def _quality_rows(q: dict) -> pd.DataFrame:
     rows = [
         ("Column read", f(q.get("column"))),
         ("Time column", f(q.get("time_column"))),
-        ("Unit", f"{q.get('unit')} — {q.get('unit_reason', '')}".strip(" —")),
+        ("Unit", f"{q.get('unit')} — {_reason(q.get('unit_reason', ''))}".strip(" —")),
         ("Interval", f(q.get("interval_s"), "{:,.0f}", "s")),
-        ("First / last reading (UTC)", f"{q.get('start_utc', '')} … {q.get('end_utc', '')}"),
+        ("First / last reading (UTC)", f"{_when(q.get('start_utc'))} … {_when(q.get('end_utc'))}"),
         ("Span", f(q.get("span_days"), "{:,.1f}", "days")),
         ("Coverage", f(q.get("coverage_pct"), "{:.1f}", "%")),
         ("Rows read / used / rejected", f"{q.get('rows_read', 0):,} / {q.get('rows_used', 0):,} / "

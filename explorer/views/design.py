@@ -53,6 +53,20 @@ def _load(values: dict) -> None:
     st.session_state.update(values)
 
 
+def best_lines(result) -> list[str]:
+    """The reasons for the best designs, each design told once: the best of a kind that is also the best overall
+    is named in one short line instead of the same paragraph again."""
+    best = result.best.get("overall")
+    lines = [result.reasons["overall"]]
+    for kind, words in (("dc", "DC-coupled"), ("ac", "AC-coupled")):
+        mine = result.best.get(kind)
+        if best is not None and mine is not None and mine.id == best.id:
+            lines.append(f"The best {words} design is the best design above ({best.id}).")
+        else:
+            lines.append(result.reasons[kind])
+    return lines
+
+
 def report_summary(sc) -> dict | None:
     """The last search's summary for the HTML report, when it was run on this scenario (else None)."""
     from core.analyses.design.report import search_summary
@@ -112,8 +126,7 @@ def render(m) -> None:
         st.warning("The settings changed since this search: press *Search the designs* to update it.")
     result = stored["result"]
     cur = result.scenario.tariff.currency
-    for kind in ("overall", "dc", "ac"):
-        st.markdown(f"- {result.reasons[kind]}")
+    st.markdown("\n".join(f"- {line}" for line in best_lines(result)))
     with_invalid = st.toggle("Show the invalid designs too, with the rule each one fails", key="design_invalid")
     frame = design_frame(result, include_invalid=with_invalid)
     st.caption(f"{len(result.designs)} designs tried, {len(result.valid)} valid.")
@@ -122,12 +135,14 @@ def render(m) -> None:
         "cost": f"Cost ({cur})", "npv": f"NPV ({cur})", "payback_years": "Simple payback (years)",
         "self_consumed_added_kwh": "Added self-consumed (kWh/yr)", "curtailed_added_kwh": "Added curtailed (kWh/yr)",
         "valid": "Valid", "on_front": "On the best front", "why_invalid": "Why not valid"})
+    # the figures before the long description, so that they are not behind the table's scroll bar
+    table = table[[c for c in table.columns if c != "What"] + ["What"]]
+    # whole units with thousands separators: rounded here, shown in the reader's number format
+    whole = [f"Cost ({cur})", f"NPV ({cur})", "Added self-consumed (kWh/yr)", "Added curtailed (kWh/yr)"]
+    table[whole] = table[whole].round(0)
     st.dataframe(table, hide_index=True, width="stretch", column_config={
-        f"Cost ({cur})": st.column_config.NumberColumn(format="%.0f"),
-        f"NPV ({cur})": st.column_config.NumberColumn(format="%.0f"),
-        "Simple payback (years)": st.column_config.NumberColumn(format="%.1f"),
-        "Added self-consumed (kWh/yr)": st.column_config.NumberColumn(format="%.0f"),
-        "Added curtailed (kWh/yr)": st.column_config.NumberColumn(format="%.0f")})
+        **{c: st.column_config.NumberColumn(format="localized") for c in whole},
+        "Simple payback (years)": st.column_config.NumberColumn(format="%.1f")})
     if result.valid:
         charts.draw(design_charts.design_scatter(design_frame(result), cur))
         ids = [d.id for d in result.valid]

@@ -25,22 +25,27 @@ def face_modules(layout, hours) -> pd.DataFrame:
 
 def face_chart(frame: pd.DataFrame, face_name: str) -> alt.Chart:
     """The modules as seen from the front, coloured by hours a year with part of their cells in shade."""
+    top = float(frame["hours"].max()) if len(frame) else 0.0
+    # whole hours from none to the most, each label once (a scale's own ticks repeat "1" below two hours)
+    ticks = [0.0, round(top / 2.0), round(top)] if top >= 4.0 else [0.0, round(max(top, 1.0))]
     return alt.Chart(frame, title=alt.Title(f"Which modules on “{face_name}” see shade, and how often",
                                             subtitle="seen from the front; hours a year with a shadow on the cells")
                      ).mark_rect(stroke="#333333").encode(
         x=alt.X("u0_m:Q", title="Along the face (m)"), x2="u1_m:Q",
         y=alt.Y("s0_m:Q", title="Up the slope / back (m)"), y2="s1_m:Q",
-        color=alt.Color("hours:Q", scale=alt.Scale(scheme="orangered", domainMin=0),
-                        legend=alt.Legend(title="Shade (h a year)")),
+        # From no shade to at least one hour: a face without shade is drawn pale, not in the scale's darkest colour
+        color=alt.Color("hours:Q", scale=alt.Scale(scheme="orangered", domain=[0.0, max(top, 1.0)]),
+                        legend=alt.Legend(title="Shade (h a year)", format=",.0f", values=ticks)),
         tooltip=[alt.Tooltip("module:Q", title="Module"), alt.Tooltip("row:Q", title="Row"),
                  alt.Tooltip("column:Q", title="Column"), alt.Tooltip("hours:Q", title="Shade (h a year)",
                                                                       format=",.0f")],
     ).properties(width="container", height=260)
 
 
-def render(sc, site) -> None:
+def render(sc, site, option_sc=None) -> None:
     import streamlit as st
 
+    from core.analyses.options import EXPANSION_ARRAY
     from core.scenario.schema import Obstacle
     from explorer.charts import draw
 
@@ -48,7 +53,10 @@ def render(sc, site) -> None:
     if not faces:
         st.info("The scenario names no roof faces ([[faces]]): add one to see its shade.")
         return
-    name = st.selectbox("Face", [f.name for f in faces], key="face_pick")
+    names = [f.name for f in faces]
+    # the new panels' face first, when they lie on one
+    on = next((a.face for a in option_sc.arrays if a.name == EXPANSION_ARRAY and a.face), None) if option_sc else None
+    name = st.selectbox("Face", names, index=names.index(on) if on in names else 0, key="face_pick")
     face = faces[[f.name for f in faces].index(name)]
     module = sc.modules[(sc.expansion.module if sc.expansion else next(iter(sc.modules)))]
     st.caption("Try an obstacle or a horizon point here; the drawing shows its shade. To keep it, add it to the "
@@ -65,3 +73,9 @@ def render(sc, site) -> None:
         face = dataclasses.replace(face, horizon=(*face.horizon, (face.azimuth_deg, float(point))))
     layout, hours = module_shade_hours(site, face, module)
     draw(face_chart(face_modules(layout, hours), face.name))
+    if not hours.any():
+        st.caption(f"Nothing shades “{face.name}”: the scenario gives it no obstacle, no horizon and no rows in "
+                   "front. Try one above.")
+    elif face.rows is None or face.columns is None:
+        st.caption(f"“{face.name}” has no layout in the scenario (rows, columns): drawn as one row of "
+                   f"{layout.n_modules}.")

@@ -38,13 +38,17 @@ def _card(h: Headline, period_years: int | None = None) -> None:
         if note:
             st.caption(note)
         elif _alarm(h):
-            st.markdown(f":red-background[not allowed here] existing: {fmt_value(h.baseline, h.unit)}")
+            st.markdown(f":red-background[not allowed here]  \n:gray[existing system: {fmt_value(h.baseline, h.unit)}]")
+        elif h.baseline is None:  # a figure of the new panels alone (the payback): the existing system has none
+            st.caption("for the new panels alone")
         else:
             st.caption(f"existing system: {fmt_value(h.baseline, h.unit)}{same}")
 
 
 def _line(h: Headline) -> None:
-    delta = "" if h.delta is None or _negligible(h) else f" ({fmt_value(h.delta, h.unit, signed=True)})"
+    # a change from nothing is the value itself: said once
+    same = h.delta is None or _negligible(h) or (h.baseline is not None and abs(h.baseline) < 1e-9)
+    delta = "" if same else f" ({fmt_value(h.delta, h.unit, signed=True)})"
     st.markdown(f"**{h.label}**  \n{fmt_value(h.value, h.unit)}{delta}", help=h.help or None)
     st.caption(f"existing system: {fmt_value(h.baseline, h.unit)}")
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 import altair as alt
 import pandas as pd
 
+from core.analyses.options import EXPANSION_ARRAY
 from core.face_arrays import array_breakdown, step_note
 from core.present import figures as palette
 
@@ -37,15 +38,27 @@ def loss_steps(array: dict) -> pd.DataFrame:
     return frame
 
 
+#: The page's words for an array the options add (its name in the model is the expansion's).
+ARRAY_WORDS = {EXPANSION_ARRAY: "the new panels"}
+
+
+def array_words(name: str) -> str:
+    """An array's name as the page says it: the new panels in words, an existing array by its own name."""
+    return ARRAY_WORDS.get(name, name)
+
+
 def loss_chart(frame: pd.DataFrame, array_name: str) -> alt.Chart:
     """Horizontal bars from the potential down to what is delivered, each loss as a span (kWh a year)."""
-    return alt.Chart(frame, title=alt.Title(f"Where the energy of “{array_name}” goes",
-                                            subtitle="a year, kWh: each bar is what that stage takes")).mark_bar().encode(
+    kinds = [k for k in KIND_COLOURS if k in set(frame["kind"])] or list(KIND_COLOURS)
+    shown = array_words(array_name)
+    title = (f"Where the energy of {shown} goes" if shown != array_name else f"Where the energy of “{shown}” goes")
+    return alt.Chart(frame, title=alt.Title(title, subtitle="a year, kWh: from what reaches the modules' plane, "
+                                                            "each bar is what that stage takes")).mark_bar().encode(
         y=alt.Y("step:N", sort=alt.EncodingSortField("order"), title=None, axis=alt.Axis(labelLimit=320)),
         x=alt.X("start_kwh:Q", title="Energy (kWh a year)"),
         x2="end_kwh:Q",
-        color=alt.Color("kind:N", scale=alt.Scale(domain=list(KIND_COLOURS), range=list(KIND_COLOURS.values())),
-                        legend=alt.Legend(title="Bar", orient="bottom", direction="horizontal",
+        color=alt.Color("kind:N", scale=alt.Scale(domain=kinds, range=[KIND_COLOURS[k] for k in kinds]),
+                        legend=alt.Legend(title="Stage", orient="bottom", direction="horizontal",
                                           labelExpr="{'potential': 'potential', 'loss': 'loss', 'gain': "
                                                     "'gain (cold cells)', 'delivered': 'delivered'}[datum.label]")),
         tooltip=[alt.Tooltip("step:N", title="Stage"), alt.Tooltip("kwh:Q", title="kWh a year", format=",.0f")],
@@ -66,12 +79,24 @@ def render(sim) -> None:
     if not names:
         st.info("There are no arrays in this option.")
         return
-    chosen = st.selectbox("Array", names, index=len(names) - 1, key="losses_array")
+    chosen = st.selectbox("Array", names, index=len(names) - 1, key="losses_array", format_func=array_words)
     array = arrays[names.index(chosen)]
     draw(loss_chart(loss_steps(array), chosen))
-    table = pd.DataFrame([(LOSS_WORDS[k], 0.0 if abs(v) < 0.5 else v) for k, v in array["losses_kwh"].items()],
-                         columns=["Loss", "kWh a year"])
-    st.dataframe(table, hide_index=True, column_config={"kWh a year": st.column_config.NumberColumn(format="%.0f")})
+    table = loss_table(array)
+    st.dataframe(table, hide_index=True, column_config={
+        "kWh a year": st.column_config.NumberColumn(format="%.0f"),
+        "Share of the potential (%)": st.column_config.NumberColumn(format="%.1f")})
+
+
+def loss_table(array: dict) -> pd.DataFrame:
+    """Every loss in the chart's order (a gain is negative), in kWh a year and as a share of the potential."""
+    poa = array["poa_kwh"]
+    rows = []
+    for key, words in LOSS_WORDS.items():
+        v = array["losses_kwh"].get(key, 0.0)
+        v = 0.0 if abs(v) < 0.5 else v
+        rows.append((words, v, 100.0 * v / poa if poa > 0 else 0.0))
+    return pd.DataFrame(rows, columns=["Loss", "kWh a year", "Share of the potential (%)"])
 
 
 def render_tab(m) -> None:
@@ -82,4 +107,4 @@ def render_tab(m) -> None:
     with section("Losses"):
         render(m.sim)
     with section("Shade on a face"):
-        face.render(m.scenario, m.sim.site)
+        face.render(m.scenario, m.sim.site, m.option_scenario)

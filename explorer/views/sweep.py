@@ -9,6 +9,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
+from core.analyses.checks.words import rule_words
 from core.analyses.compare import LOADS_ROW
 from core.analyses.options import OPTION_LABELS
 from core.analyses.sweep import rule_counts, sweep, sweep_summary
@@ -68,8 +69,8 @@ def legend(table: pd.DataFrame) -> str:
     """The markers in words: C, and each rule code with its rule id."""
     parts = [f"C: added curtailment and clipping above {LOST_SHARE:.0%} of the new panels' potential."]
     for rule, code in rule_codes(table).items():
-        what = "uncontrolled export into a grid that may not be fed" if rule == LEAK_RULE else "fails the design check"
-        parts.append(f"{code}: {what} ({rule}) — set aside.")
+        what = rule_words(rule) if rule == LEAK_RULE else f"fails the design check: {rule_words(rule)}"
+        parts.append(f"{code}: {what} — set aside.")
     parts.append("The framed cell is the sidebar's setting.")
     return " ".join(parts)
 

@@ -40,7 +40,7 @@ def reason(best: DesignResult, runner: DesignResult | None, kind: str) -> str:
     e = best.economics
     what = {"overall": "Best design", "dc": "Best DC-coupled design", "ac": "Best AC-coupled design"}[kind]
     text = (f"{what} ({best.id}): {best.candidate.words()}. It costs {_money(best.cost.total, cur)} and adds "
-            f"{best.added['self_consumed_kwh']:.0f} kWh a year of self-consumed PV, saving "
+            f"{best.added['self_consumed_kwh']:,.0f} kWh a year of self-consumed PV, saving "
             f"{_money(e.annual_saving, cur)} in the first year")
     if e.npv >= 0:
         pay = ("" if e.simple_payback_years is None else f", paying back in {e.simple_payback_years:.1f} years")
@@ -54,11 +54,11 @@ def reason(best: DesignResult, runner: DesignResult | None, kind: str) -> str:
         d_kwh = best.added["self_consumed_kwh"] - runner.added["self_consumed_kwh"]
         if d_npv > NPV_TIE:
             text += (f" It beats the runner-up ({runner.id}: {runner.candidate.words()}) by {_money(d_npv, cur)} of "
-                     "NPV" + (f" although it adds {-d_kwh:.0f} kWh less." if d_kwh < -0.5 else "."))
+                     "NPV" + (f" although it adds {-d_kwh:,.0f} kWh less." if d_kwh < -0.5 else "."))
         else:
             d_unserved = runner.added["unserved_kwh"] - best.added["unserved_kwh"]
             if d_kwh > 0.5:
-                more = f"adds {d_kwh:.0f} kWh more self-consumed energy"
+                more = f"adds {d_kwh:,.0f} kWh more self-consumed energy"
             elif d_unserved > 0.05:
                 more = f"adds as much energy, and leaves {d_unserved:.1f} kWh a year less unserved in outages"
             else:
