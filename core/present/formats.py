@@ -61,3 +61,13 @@ def fmt_value(x: float | None, unit: str, *, signed: bool = False) -> str:
     if unit == "cycles/yr":
         return "—" if x is None else (f"{x:+,.0f} cycles" if signed else f"{x:,.0f} cycles")
     return "—" if x is None else f"{x:,.1f} {unit}"
+
+
+_COMPASS = ("north", "north-north-east", "north-east", "east-north-east", "east", "east-south-east", "south-east",
+            "south-south-east", "south", "south-south-west", "south-west", "west-south-west", "west",
+            "west-north-west", "north-west", "north-north-west")
+
+
+def compass(azimuth_deg: float) -> str:
+    """The nearest of 16 compass points for an azimuth (degrees clockwise from north)."""
+    return _COMPASS[int(((azimuth_deg % 360) + 11.25) // 22.5) % 16]

@@ -21,6 +21,7 @@ from core.analyses.options import OPTION_LABELS, Layout, Option, with_option
 from core.errors import InputError
 from core.model.loads import base_load_w
 from core.present.figures import headline_figures, secondary_figures
+from core.present.formats import compass
 from core.present.options_table import options_table
 from core.present.report_html import report_html
 from core.scenario import Scenario
@@ -67,7 +68,8 @@ def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, 
     e = sc.expansion
     if e is not None and option != "baseline":
         rows += [("Panels added", f"{layout.count} × {e.module} ({sc.modules[e.module].pmax_w:,.0f} W STC)"),
-                 ("Tilt / azimuth", f"{layout.tilt_deg:.0f}° / {layout.azimuth_deg:.0f}°")]
+                 ("Tilt / azimuth",
+                  f"{layout.tilt_deg:.0f}° / {layout.azimuth_deg:.0f}° ({compass(layout.azimuth_deg)})")]
         if option != "dc" and e.microinverter:
             rows.append(("Microinverter", e.microinverter))
         if option == "dc" and e.controller:
@@ -77,8 +79,12 @@ def settings_rows(sc: Scenario, option: str, layout: Layout) -> list[tuple[str, 
                  ("Outage reserve / floor", f"{sc.battery.reserve_pct:.0f} % / {sc.battery.floor_pct:.0f} %")]
     g = sc.grid
     export = f"allowed up to {g.export_limit_w:,.0f} W" if g.export_allowed else "zero export"
+    r = g.random_outages
+    outages = ("Random outages: " + f"{r.per_year:g} per year, mean {r.mean_hours:g} h" if r is not None
+               else "as in the scenario file" if g.outages_path else "none")
     rows += [("Standing draw", f"{g.standing_draw_w:,.0f} W"),
-             ("Export", f"{export}; AC export control: {g.ac_control_mode}")]
+             ("Export", f"{export}; AC export control: {g.ac_control_mode}"),
+             ("Outages", outages)]
     return rows
 
 

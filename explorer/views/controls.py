@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
+from core.present.formats import compass
 from core.scenario import Scenario
 from explorer import state
 
@@ -20,16 +21,6 @@ _WIDGET_TYPES = {"c_count": int, "c_tilt": lambda v: int(round(v)), "c_azimuth":
                  "c_reserve": lambda v: int(round(v)), "c_battery": lambda v: round(float(v), 1),
                  "c_standing": float, "c_export_limit": float, "c_outages_n": float, "c_outages_h": float,
                  "c_per": int}
-_COMPASS = ("north", "north-north-east", "north-east", "east-north-east", "east", "east-south-east", "south-east",
-            "south-south-east", "south", "south-south-west", "south-west", "west-south-west", "west",
-            "west-north-west", "north-west", "north-north-west")
-
-
-def compass(azimuth_deg: float) -> str:
-    """The nearest of 16 compass points for an azimuth (degrees clockwise from north)."""
-    return _COMPASS[int(((azimuth_deg % 360) + 11.25) // 22.5) % 16]
-
-
 def reset(sc: Scenario, option_hint: str | None = None) -> None:
     """Set every control to the scenario's own values (a new scenario was chosen)."""
     c = state.controls_from_scenario(sc, option_hint)

@@ -8,33 +8,14 @@ import streamlit as st
 
 from core.present.report import steps_csv_text
 from core.present.report_html import report_html
+from core.present.scenario_report import settings_rows
 from explorer import caching, state
 from explorer.views import compare, design
-from explorer.views.controls import compass
 
 
 def settings_list(m) -> list[tuple[str, str]]:
     """The what-if settings in words, for the report (read back from the scenario the page simulated)."""
-    sc, lay, e = m.scenario, m.comparison.layout, m.scenario.expansion
-    rows = [("Coupling of the new panels", m.label)]
-    if e is not None:
-        rows += [("Panels added", f"{lay.count} × {e.module} ({sc.modules[e.module].pmax_w:,.0f} W STC)"),
-                 ("Tilt / azimuth", f"{lay.tilt_deg:.0f}° / {lay.azimuth_deg:.0f}° ({compass(lay.azimuth_deg)})")]
-        if m.option != "dc" and e.microinverter:
-            rows.append(("Microinverter", e.microinverter))
-    if sc.battery is not None:
-        rows += [("Battery usable capacity", f"{sc.battery.usable_kwh:,.1f} kWh"),
-                 ("Outage reserve / floor", f"{sc.battery.reserve_pct:.0f} % / {sc.battery.floor_pct:.0f} %")]
-    g = sc.grid
-    export = f"allowed up to {g.export_limit_w:,.0f} W" if g.export_allowed else "zero export"
-    r = g.random_outages
-    outages = ("Random outages: " + f"{r.per_year:g} per year, mean {r.mean_hours:g} h" if r is not None
-               else "as in the scenario file" if g.outages_path else "none")
-    rows += [("Standing draw", f"{g.standing_draw_w:,.0f} W"),
-             ("Export", f"{export}; limiter on the microinverters: "
-                        f"{'yes' if g.ac_export_control == 'limiter' else 'no'}"),
-             ("Outages", outages)]
-    return rows
+    return settings_rows(m.scenario, m.option, m.comparison.layout)
 
 
 def report_text(m) -> str:
