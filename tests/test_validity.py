@@ -40,7 +40,8 @@ def test_failed_rules_and_their_words():
     assert failed_rules([], 0.5) == (LEAK_RULE,)
     words = why_set_aside((LEAK_RULE, "strings.vmp_hot"), exported_uncontrolled_kwh=344.4,
                           exported_uncontrolled_hours=120.0)
-    assert words == "uncontrolled export 344 kWh/yr in 120 h/yr; fails check strings.vmp_hot"
+    assert words == ("uncontrolled export 344 kWh/yr in 120 h/yr; fails the rule: string too short for the "
+                     "controller in hot weather")
 
 
 def test_red_dune_verdict_names_the_options_it_set_aside_in_the_tables_words():

@@ -36,5 +36,9 @@ def why_set_aside(rules: Iterable[str], *, exported_uncontrolled_kwh: float | No
                          f"uncontrolled export {exported_uncontrolled_kwh:,.0f} kWh/yr in "
                          f"{exported_uncontrolled_hours or 0.0:,.0f} h/yr")
         else:
-            parts.append(f"fails check {rule}")
+            from core.analyses.checks.words import (
+                rule_words,  # here: the checks import this module's threshold
+            )
+
+            parts.append(f"fails the rule: {rule_words(rule)}")
     return "; ".join(parts)

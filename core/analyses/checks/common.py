@@ -109,3 +109,9 @@ def hot_cell_temperature_c(high_air_c: float, mount: str) -> float:
 
     return float(cell_temperature(np.array([HOT_CELL_IRRADIANCE_W_M2]), np.array([high_air_c]),
                                   np.array([HOT_CELL_WIND_M_S]), mount)[0])
+
+
+def array_words(name: str) -> str:
+    """An array as a check's sentence names it: the new panels (the option's added array, named "expansion" by
+    :mod:`core.analyses.options`) in words, any other by its name."""
+    return "The new panels" if name == "expansion" else f"Array '{name}'"

@@ -14,6 +14,7 @@ from core.analyses.checks.common import (
     CAUTION_MICRO,
     Check,
     DesignTemperatures,
+    array_words,
     hot_cell_temperature_c,
 )
 from core.analyses.checks.frequency_watt import PRESETS
@@ -42,7 +43,7 @@ def microinverter_checks(sc: Scenario, temps: DesignTemperatures, per_array_dc_w
         checks.append(Check(
             id="micro.voc_cold", status="fail" if over else "pass", value=round(voc, 2), limit=mi.max_input_voltage_v,
             unit="V",
-            sentence=(f"Array '{a.name}': one module reaches {voc:.1f} V open-circuit at {temps.low_c:.1f} °C "
+            sentence=(f"{array_words(a.name)}: one module reaches {voc:.1f} V open-circuit at {temps.low_c:.1f} °C "
                       f"({temps.low_basis}), " + ("above" if over else "below")
                       + f" the microinverter's {mi.max_input_voltage_v:.0f} V input limit"
                       + ("; choose a microinverter for higher-voltage modules." if over else ".")),
@@ -55,7 +56,7 @@ def microinverter_checks(sc: Scenario, temps: DesignTemperatures, per_array_dc_w
         checks.append(Check(
             id="micro.vmp_window", status="pass" if inside else "warn", value=round(vmp_hot, 2),
             limit=mi.mppt_min_v, unit="V",
-            sentence=(f"Array '{a.name}': the module's maximum-power voltage runs from {vmp_hot:.1f} V (cells at "
+            sentence=(f"{array_words(a.name)}: the module's maximum-power voltage runs from {vmp_hot:.1f} V (cells at "
                       f"{t_hot:.0f} °C) to {vmp_cold:.1f} V (at {temps.low_c:.0f} °C); the microinverter tracks "
                       f"{mi.mppt_min_v:.0f}–{mi.mppt_max_v:.0f} V" + (
                           ", so it stays on the maximum-power point." if inside else
@@ -71,7 +72,7 @@ def microinverter_checks(sc: Scenario, temps: DesignTemperatures, per_array_dc_w
             status, what = "pass", "1.25 × Isc is within it"
         checks.append(Check(
             id="micro.current", status=status, value=round(circuit, 2), limit=mi.max_input_current_a, unit="A",
-            sentence=(f"Array '{a.name}': module Isc {m.isc_a:.1f} A against the microinverter's "
+            sentence=(f"{array_words(a.name)}: module Isc {m.isc_a:.1f} A against the microinverter's "
                       f"{mi.max_input_current_a:.1f} A input limit: {what}."),
             source="NFPA 70 (NEC) 690.8(A)(1) (from memory)", caution=CAUTION_MICRO, subject=subject))
         ratio = mi.inputs * m.pmax_w / mi.ac_rating_w
@@ -85,14 +86,14 @@ def microinverter_checks(sc: Scenario, temps: DesignTemperatures, per_array_dc_w
             share = float(conv.clipped_w.sum()) / total if total > 0 else 0.0
         if share is not None:
             status = "warn" if share > CLIPPING_SHARE_WARN else "pass"
-            sentence = (f"Array '{a.name}': DC/AC ratio {ratio:.2f} ({mi.inputs} × {m.pmax_w:.0f} W on "
+            sentence = (f"{array_words(a.name)}: DC/AC ratio {ratio:.2f} ({mi.inputs} × {m.pmax_w:.0f} W on "
                         f"{mi.ac_rating_w:.0f} W AC); {share * 100:.1f} % of the year's module energy is clipped"
                         + (", more than a few percent: a larger microinverter would harvest it." if status == "warn"
                            else "."))
             value, limit, unit = round(share * 100, 1), CLIPPING_SHARE_WARN * 100, "%"
         else:
             status = "warn" if ratio > DC_AC_RATIO_HIGH else "pass"
-            sentence = (f"Array '{a.name}': DC/AC ratio {ratio:.2f} ({mi.inputs} × {m.pmax_w:.0f} W on "
+            sentence = (f"{array_words(a.name)}: DC/AC ratio {ratio:.2f} ({mi.inputs} × {m.pmax_w:.0f} W on "
                         f"{mi.ac_rating_w:.0f} W AC)" + (", high enough to clip noticeably in clear weather."
                                                         if status == "warn" else "."))
             value, limit, unit = round(ratio, 2), DC_AC_RATIO_HIGH, ""
@@ -101,7 +102,7 @@ def microinverter_checks(sc: Scenario, temps: DesignTemperatures, per_array_dc_w
         units = math.ceil(a.module_count / mi.inputs)
         checks.append(Check(
             id="micro.grid_code", status="pass", value=None, limit=None, unit="",
-            sentence=(f"Array '{a.name}': {units} microinverter{'s' if units != 1 else ''} set to "
+            sentence=(f"{array_words(a.name)}: {units} microinverter{'s' if units != 1 else ''} set to "
                       f"{PRESETS[mi.grid_code].name}; they must be certified and configured for the local "
                       "grid code."),
             source="local grid code", caution=CAUTION_MICRO, subject=subject))

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core.analyses.checks.common import CAUTION_STRUCTURE, Check, Status
+from core.analyses.checks.common import CAUTION_STRUCTURE, Check, Status, array_words
 from core.errors import InputError
 from core.model.pv import row_shaded_fraction  # noqa: F401 - the physics lives in the PV leaf
 
@@ -162,7 +162,7 @@ def spacing_checks(sc, sim=None) -> list[Check]:
         except InputError as exc:  # polar sites: the sun is down on the winter solstice, no gap is enough
             checks.append(Check(
                 id="spacing.rows", status="warn", value=None, limit=None, unit="m",
-                sentence=f"Array '{a.name}': the winter-solstice spacing rule does not apply here ({exc.message}); "
+                sentence=f"{array_words(a.name)}: the winter-solstice spacing rule does not apply here ({exc.message}); "
                          "the rows shade each other whenever the sun is low, and the simulation counts that loss.",
                 source="solar geometry (Duffie & Beckman §1.6); design window: common practice",
                 caution=CAUTION_STRUCTURE, subject=f"array {a.name}"))
@@ -182,7 +182,7 @@ def spacing_checks(sc, sim=None) -> list[Check]:
         lost = "" if loss is None else f"; over the year the row in front takes {loss * 100:.1f} % of the irradiance"
         checks.append(Check(
             id="spacing.rows", status=status, value=round(gap, 3), limit=round(rule.gap_m, 3), unit="m",
-            sentence=(f"Array '{a.name}': rows of {length:.2f} m at {a.tilt_deg:.0f}° on a {a.row_pitch_m:.2f} m pitch "
+            sentence=(f"{array_words(a.name)}: rows of {length:.2f} m at {a.tilt_deg:.0f}° on a {a.row_pitch_m:.2f} m pitch "
                       f"leave a {gap:.2f} m clear gap; {rule.gap_m:.2f} m (pitch {rule.pitch_m:.2f} m) keeps them "
                       f"unshaded on the winter solstice from {rule.window_h[0]:g}:00 to {rule.window_h[1]:g}:00 solar "
                       f"time{lost}."),

@@ -22,6 +22,7 @@ from core.analyses.checks.common import (
     CAUTION_DC,
     Check,
     DesignTemperatures,
+    array_words,
     hot_cell_temperature_c,
 )
 from core.scenario import Array, Scenario
@@ -134,7 +135,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
                 what = f"stays below the controller's {c.max_pv_voltage_v:.0f} V limit."
             checks.append(Check(
                 id="strings.voc_cold", status=status, value=round(voc, 2), limit=c.max_pv_voltage_v, unit="V",
-                sentence=(f"Array '{a.name}': {n} modules in series reach {voc:.1f} V open-circuit at the design low "
+                sentence=(f"{array_words(a.name)}: {n} modules in series reach {voc:.1f} V open-circuit at the design low "
                           f"temperature of {temps.low_c:.1f} °C ({temps.low_basis}), which {what}"),
                 source="NFPA 70 (NEC) 690.7(A)(1), datasheet temperature coefficient", caution=CAUTION_DC,
                 subject=subject))
@@ -142,7 +143,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
             if table is None:
                 checks.append(Check(
                     id="strings.voc_cold_table", status="warn", value=None, limit=c.max_pv_voltage_v, unit="V",
-                    sentence=(f"Array '{a.name}': the NEC table has no factor below −40 °C; rely on the coefficient "
+                    sentence=(f"{array_words(a.name)}: the NEC table has no factor below −40 °C; rely on the coefficient "
                               "method and the maker's data."),
                     source="NEC 2017/2020 Table 690.7(A) (values from memory)", caution=CAUTION_DC, subject=subject))
             else:
@@ -150,7 +151,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
                 checks.append(Check(
                     id="strings.voc_cold_table", status="warn" if over else "pass", value=round(table, 2),
                     limit=c.max_pv_voltage_v, unit="V",
-                    sentence=(f"Array '{a.name}': cross-check by the NEC table (factor {nec_table_factor(temps.low_c):.2f}"
+                    sentence=(f"{array_words(a.name)}: cross-check by the NEC table (factor {nec_table_factor(temps.low_c):.2f}"
                               f" for crystalline silicon at {temps.low_c:.0f} °C) gives {table:.1f} V, "
                               + ("above the limit: the coefficient method governs when the maker gives β, but "
                                  "confirm the module's coefficient before relying on the margin." if over
@@ -183,7 +184,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
             checks.append(Check(
                 id="strings.vmp_hot", status=status, value=round(vmp_hot, 2),
                 limit=round(limit, 2), unit="V",
-                sentence=(f"Array '{a.name}': at a cell temperature of {t_hot:.0f} °C (full sun on the hottest hour, "
+                sentence=(f"{array_words(a.name)}: at a cell temperature of {t_hot:.0f} °C (full sun on the hottest hour, "
                           f"{temps.high_air_c:.0f} °C air) the string's maximum-power voltage is {vmp_hot:.1f} V, "
                           f"{what}."),
                 source="controller datasheet limits; Vmp scaled with the power coefficient (common practice); "
@@ -193,7 +194,7 @@ def string_checks(sc: Scenario, temps: DesignTemperatures) -> list[Check]:
             checks.append(Check(
                 id="strings.vmp_cold", status="warn" if vmp_cold > c.mppt_max_v else "pass", value=round(vmp_cold, 2),
                 limit=c.mppt_max_v, unit="V",
-                sentence=(f"Array '{a.name}': on a cold bright morning ({temps.low_c:.0f} °C cells) the maximum-power "
+                sentence=(f"{array_words(a.name)}: on a cold bright morning ({temps.low_c:.0f} °C cells) the maximum-power "
                           f"voltage is {vmp_cold:.1f} V, "
                           + (f"above the MPPT window's {c.mppt_max_v:.0f} V maximum: the controller tracks off the "
                              "maximum-power point." if vmp_cold > c.mppt_max_v
