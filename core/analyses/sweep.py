@@ -70,7 +70,7 @@ def _source_rows(s: SourcePower) -> dict[str, np.ndarray]:
             "ac_grid_loss_w": s.ac_grid.loss_w}
 
 
-def _columns(flows: np.ndarray, s: SourcePower, site: SiteData) -> dict[str, np.ndarray]:
+def engine_columns(flows: np.ndarray, s: SourcePower, site: SiteData) -> dict[str, np.ndarray]:
     """The per-step columns :func:`core.model.metrics.year_totals` reads, by name: the engine's flows (named by
     :data:`core.model.dispatch.FLOWS`), the site's loads and the sources' potentials and outputs."""
     columns = dict(zip(dispatch.FLOWS, flows, strict=True))
@@ -168,7 +168,7 @@ def sweep(sc: Scenario, *, counts: Iterable[int] | None = None, tilts: Sequence[
                                        {key: buffers[key][:k] for key in _SOURCE_KEYS}, params,
                                        out=buffers["flows"][:k], charge_window=window)
         return [_CellYear(scenario=sc_v, site=site, sources=s,
-                          results=metrics.year_totals(_columns(flows[i], s, site), dt_h=site.dt_h,
+                          results=metrics.year_totals(engine_columns(flows[i], s, site), dt_h=site.dt_h,
                                                       initial_wh=params.initial_wh))
                 for i, (sc_v, s) in enumerate(variants)]
 

@@ -24,7 +24,7 @@ from core.analyses.design.build import design_scenario
 from core.analyses.design.candidates import Candidate
 from core.analyses.design.costs import Cost, design_cost
 from core.analyses.design.spec import DesignSpec
-from core.analyses.sweep import _columns as engine_columns  # the engine flows as year_totals reads them
+from core.analyses.sweep import engine_columns  # the engine flows as year_totals reads them
 from core.model import dispatch, metrics
 from core.model import economics as econ
 from core.scenario import Scenario
